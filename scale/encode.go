@@ -1,0 +1,100 @@
+package scale
+
+import (
+	"bytes"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"io"
+)
+
+// ErrUnsupported means Encode was given a Scaler whose type is not one of
+// this package's.
+var ErrUnsupported = errors.New("scale: scaler type cannot be encoded")
+
+// documentVersion is the version of the encoded form written by this
+// package. Decode rejects any other version.
+const documentVersion = 1
+
+// document is the encoded form of every scaler; see the package
+// documentation.
+type document struct {
+	Kind    string    `json:"kind"`
+	Version int       `json:"version"`
+	Dim     int       `json:"dim"`
+	Offset  []float64 `json:"offset,omitempty"`
+	Divisor []float64 `json:"divisor,omitempty"`
+}
+
+// Encode returns the JSON document of s (see the package documentation). A
+// nil s, or a nil pointer to one of this package's scaler types, encodes as
+// null. It returns an error wrapping ErrNotLearned if s has not learned and
+// ErrUnsupported if s is not of a type of this package.
+func Encode(s Scaler) ([]byte, error) {
+	if s == nil || s == (*ZScore)(nil) || s == (*MinMax)(nil) || s == (*Robust)(nil) || s == (*UnitLength)(nil) {
+		return []byte("null"), nil
+	}
+	switch s.(type) {
+	case ZScore, *ZScore, MinMax, *MinMax, Robust, *Robust, UnitLength, *UnitLength:
+		return s.(json.Marshaler).MarshalJSON()
+	}
+	return nil, fmt.Errorf("%w: %T", ErrUnsupported, s)
+}
+
+// Decode returns the learned scaler encoded in b by Encode or by a
+// scaler's MarshalJSON: a *ZScore, *MinMax, *Robust or *UnitLength. The
+// document null decodes to (nil, nil). Any malformed, incomplete or
+// inconsistent document returns an error wrapping ErrDecode.
+func Decode(b []byte) (Scaler, error) {
+	return decodeKind(b, "")
+}
+
+// decodeKind decodes b and, if want is not empty, requires that kind. It
+// returns (nil, nil) for null.
+func decodeKind(b []byte, want string) (Scaler, error) {
+	trimmed := bytes.TrimSpace(b)
+	if string(trimmed) == "null" {
+		return nil, nil
+	}
+	dec := json.NewDecoder(bytes.NewReader(trimmed))
+	dec.DisallowUnknownFields()
+	var doc document
+	if err := dec.Decode(&doc); err != nil {
+		return nil, fmt.Errorf("%w: %v", ErrDecode, err)
+	}
+	if _, err := dec.Token(); err != io.EOF {
+		return nil, fmt.Errorf("%w: data after the document", ErrDecode)
+	}
+	switch {
+	case want != "" && doc.Kind != want:
+		return nil, fmt.Errorf("%w: kind %q, want %q", ErrDecode, doc.Kind, want)
+	case doc.Kind != kindZScore && doc.Kind != kindMinMax && doc.Kind != kindRobust && doc.Kind != kindUnitLength:
+		return nil, fmt.Errorf("%w: unknown kind %q", ErrDecode, doc.Kind)
+	}
+	if doc.Version != documentVersion {
+		return nil, fmt.Errorf("%w: version %d, want %d", ErrDecode, doc.Version, documentVersion)
+	}
+	if doc.Dim < 1 {
+		return nil, fmt.Errorf("%w: dim %d", ErrDecode, doc.Dim)
+	}
+	if doc.Kind == kindUnitLength {
+		if len(doc.Offset) != 0 || len(doc.Divisor) != 0 {
+			return nil, fmt.Errorf("%w: %s has no offset or divisor", ErrDecode, kindUnitLength)
+		}
+		return &UnitLength{dim: doc.Dim}, nil
+	}
+	if len(doc.Offset) != doc.Dim {
+		return nil, fmt.Errorf("%w: dim %d but %d offsets", ErrDecode, doc.Dim, len(doc.Offset))
+	}
+	a, err := newAffine(doc.Offset, doc.Divisor)
+	if err != nil {
+		return nil, fmt.Errorf("%w: %v", ErrDecode, err)
+	}
+	switch doc.Kind {
+	case kindZScore:
+		return &ZScore{affine: a}, nil
+	case kindMinMax:
+		return &MinMax{affine: a}, nil
+	}
+	return &Robust{affine: a}, nil
+}

@@ -1,0 +1,121 @@
+package scale
+
+import (
+	"fmt"
+	"math"
+
+	"gonum.org/v1/gonum/mat"
+)
+
+// input is validated data and weights for Learn. It reads a
+// mat.RawMatrixer in place and any other mat.Matrix through At.
+type input struct {
+	m      mat.Matrix
+	raw    []float64 // row-major backing data of a mat.RawMatrixer, nil otherwise
+	stride int
+	rows   int
+	cols   int
+	w      []float64 // nil means all ones
+	total  float64   // sum of the weights, positive and finite
+	buf    []float64 // row buffer for matrices read through At
+}
+
+// newInput validates data and weights as documented on Scaler.Learn.
+func newInput(data mat.Matrix, weights []float64) (*input, error) {
+	if data == nil {
+		return nil, fmt.Errorf("%w: nil matrix", ErrEmpty)
+	}
+	if d, ok := data.(*mat.Dense); ok && d == nil {
+		return nil, fmt.Errorf("%w: nil *mat.Dense", ErrEmpty)
+	}
+	r, c := data.Dims()
+	if r == 0 || c == 0 {
+		return nil, fmt.Errorf("%w: %d×%d matrix", ErrEmpty, r, c)
+	}
+	in := &input{m: data, rows: r, cols: c, w: weights, total: float64(r)}
+	if rm, ok := data.(mat.RawMatrixer); ok {
+		raw := rm.RawMatrix()
+		in.raw, in.stride = raw.Data, raw.Stride
+	} else {
+		in.buf = make([]float64, c)
+	}
+	if weights != nil {
+		if len(weights) != r {
+			return nil, fmt.Errorf("%w: %d weights for %d rows", ErrWeights, len(weights), r)
+		}
+		in.total = 0
+		for i, w := range weights {
+			if !(w >= 0) || math.IsInf(w, 1) {
+				return nil, fmt.Errorf("%w: weight %d is %v", ErrWeights, i, w)
+			}
+			in.total += w
+		}
+		if in.total == 0 {
+			return nil, fmt.Errorf("%w: weights sum to zero", ErrWeights)
+		}
+		if math.IsInf(in.total, 1) {
+			return nil, fmt.Errorf("%w: sum of weights overflows", ErrWeights)
+		}
+	}
+	for i := range r {
+		for j, v := range in.row(i) {
+			if math.IsNaN(v) || math.IsInf(v, 0) {
+				return nil, fmt.Errorf("%w: row %d, column %d is %v", ErrNotFinite, i, j, v)
+			}
+		}
+	}
+	return in, nil
+}
+
+// row returns row i. The slice may alias the matrix or a buffer reused by
+// the next call; callers only read it.
+func (in *input) row(i int) []float64 {
+	if in.raw != nil {
+		return in.raw[i*in.stride : i*in.stride+in.cols]
+	}
+	for j := range in.buf {
+		in.buf[j] = in.m.At(i, j)
+	}
+	return in.buf
+}
+
+// at returns element (i, j).
+func (in *input) at(i, j int) float64 {
+	if in.raw != nil {
+		return in.raw[i*in.stride+j]
+	}
+	return in.m.At(i, j)
+}
+
+// weight returns the weight of row i.
+func (in *input) weight(i int) float64 {
+	if in.w == nil {
+		return 1
+	}
+	return in.w[i]
+}
+
+// colRange returns the minimum and maximum of each column over the rows of
+// positive weight.
+func (in *input) colRange() (lo, hi []float64) {
+	lo = make([]float64, in.cols)
+	hi = make([]float64, in.cols)
+	first := true
+	for i := range in.rows {
+		if in.weight(i) == 0 {
+			continue
+		}
+		x := in.row(i)
+		if first {
+			copy(lo, x)
+			copy(hi, x)
+			first = false
+			continue
+		}
+		for j, v := range x {
+			lo[j] = min(lo[j], v)
+			hi[j] = max(hi[j], v)
+		}
+	}
+	return lo, hi
+}

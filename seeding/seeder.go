@@ -1,0 +1,42 @@
+package seeding
+
+import (
+	"errors"
+	"math/rand/v2"
+
+	"github.com/centroidlab/centroid/distance"
+	"gonum.org/v1/gonum/mat"
+)
+
+// Errors returned by seeders. Wrapped errors can be tested with errors.Is.
+var (
+	// ErrK means k is below 1 or above the number of distinct rows with
+	// positive weight.
+	ErrK = errors.New("seeding: invalid k")
+	// ErrShape means dst, data or weights have inconsistent shapes.
+	ErrShape = errors.New("seeding: inconsistent shapes")
+	// ErrWeights means weights are negative, not finite or all zero.
+	ErrWeights = errors.New("seeding: invalid weights")
+	// ErrParameter means a seeder option or argument is invalid, such as a
+	// negative PlusPlus.Candidates or a nil random source.
+	ErrParameter = errors.New("seeding: invalid parameter")
+)
+
+// Seeder picks initial centers for k-means.
+//
+// Seed writes k = dst.RawMatrix().Rows centers into dst (k×d) chosen from
+// data (n×d, already in the clustering space) where row i has weight
+// weights[i] (nil = all ones; zero-weight rows are never chosen). Randomness
+// comes only from rnd, so the same rnd state gives the same centers. Seed
+// never modifies data or weights and never returns two equal centers while
+// data holds at least k distinct rows of positive weight; if it holds fewer,
+// Seed returns an error wrapping ErrK. Seeders are safe for concurrent use
+// with distinct rnd values.
+//
+// The seeders of this package treat a nil metric m as distance.Euclidean,
+// reject rows that distance.CheckRow rejects (NaN, ±Inf, the zero vector
+// under Cosine) with its error, reject a dst that shares its backing array
+// with data (ErrShape), and leave dst unchanged when they return an error.
+type Seeder interface {
+	Seed(dst *mat.Dense, data *mat.Dense, weights []float64, m distance.Metric, rnd *rand.Rand) error
+}

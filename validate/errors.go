@@ -1,0 +1,21 @@
+package validate
+
+import "errors"
+
+// Errors returned by the indices. Wrapped errors can be tested with errors.Is.
+var (
+	// ErrEmpty means the data or a labelling has no rows.
+	ErrEmpty = errors.New("validate: empty input")
+	// ErrLength means the data and the assignments (or two labellings) have
+	// different lengths, or two center sets have different dimensions.
+	ErrLength = errors.New("validate: lengths do not match")
+	// ErrNotFinite means the data holds NaN or ±Inf.
+	ErrNotFinite = errors.New("validate: value is NaN or infinite")
+	// ErrLabel means an assignment or label is negative.
+	ErrLabel = errors.New("validate: negative label")
+	// ErrClusters means the index is undefined for this number of clusters
+	// (for example fewer than two, or as many clusters as rows).
+	ErrClusters = errors.New("validate: index undefined for this number of clusters")
+	// ErrParameter means an option is out of range.
+	ErrParameter = errors.New("validate: invalid parameter")
+)
