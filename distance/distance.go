@@ -167,8 +167,9 @@ func (Manhattan) Name() string { return "manhattan" }
 // inequality.
 type Cosine struct{}
 
-// Distance returns 1 − cos(x, y), or 1 if either vector is zero. It panics if
-// len(x) != len(y).
+// Distance returns 1 − cos(x, y), or 1 if either vector is zero. Rows whose
+// squared norms would overflow or underflow are rescaled first, so the result
+// is in [0, 2] for all finite rows. It panics if len(x) != len(y).
 func (Cosine) Distance(x, y []float64) float64 {
 	if len(x) != len(y) {
 		panic(panicLength)
@@ -288,8 +289,10 @@ func (m Minkowski) Validate() error {
 	return nil
 }
 
-// Distance returns (Σ|x_i−y_i|^P)^(1/P). It panics if len(x) != len(y); with
-// an invalid P it returns NaN (use Validate or Between to get an error).
+// Distance returns (Σ|x_i−y_i|^P)^(1/P), computed as m·(Σ(|x_i−y_i|/m)^P)^(1/P)
+// with m = max|x_i−y_i| so that large P neither overflows nor underflows. It
+// panics if len(x) != len(y); with an invalid P it returns NaN (use Validate
+// or Between to get an error).
 func (m Minkowski) Distance(x, y []float64) float64 {
 	if len(x) != len(y) {
 		panic(panicLength)
