@@ -1,5 +1,5 @@
-// Package scale learns per-column scalings of raw rows so that no column
-// dominates a distance merely because of its units.
+// Package scale puts the columns of raw data rows on a common scale, so that
+// no column dominates a distance merely because of its units.
 //
 // A configured value (ZScore{}, &MinMax{}, ...) holds options only. Its Learn
 // method reads the rows of a data matrix, optionally weighted, and returns a
@@ -23,8 +23,8 @@
 // # Constant columns
 //
 // A column whose spread statistic is zero (a constant column for all
-// scalers; for Robust also any column with more than half its weight on one
-// value) gets the divisor 1 instead, so it is only shifted: a constant
+// scalers; for Robust also any column whose first and third quartiles are
+// the same value) gets the divisor 1 instead, so it is only shifted: a constant
 // column maps to exactly 0 and never to NaN or ±Inf. For ZScore and MinMax a
 // column is constant when its minimum and maximum over the rows of positive
 // weight are equal; its shift is then that value exactly.
@@ -65,9 +65,9 @@
 // offset and divisor are the affine shift and div; floats are written in
 // the shortest form that parses back to the same bits, so a round trip is
 // bit-identical. Decode dispatches on kind and validates everything (known
-// kind, supported version, dim ≥ 1, arrays of length dim, finite values,
-// divisors > 0, no unknown fields, no trailing data); any failure wraps
-// ErrDecode. Encoding an unlearned scaler returns an error wrapping
+// kind, supported version, dim ≥ 1, arrays of length dim, finite non-null
+// values, divisors > 0, no unknown fields, no trailing data); any failure
+// wraps ErrDecode. Encoding an unlearned scaler returns an error wrapping
 // ErrNotLearned. A nil Scaler, or a nil pointer to one of this package's
 // types, encodes as JSON null, and Decode of null returns (nil, nil), so an
 // optional scaler can be stored as is. UnmarshalJSON of null leaves the

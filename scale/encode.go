@@ -19,11 +19,36 @@ const documentVersion = 1
 // document is the encoded form of every scaler; see the package
 // documentation.
 type document struct {
-	Kind    string    `json:"kind"`
-	Version int       `json:"version"`
-	Dim     int       `json:"dim"`
-	Offset  []float64 `json:"offset,omitempty"`
-	Divisor []float64 `json:"divisor,omitempty"`
+	Kind    string  `json:"kind"`
+	Version int     `json:"version"`
+	Dim     int     `json:"dim"`
+	Offset  numbers `json:"offset,omitempty"`
+	Divisor numbers `json:"divisor,omitempty"`
+}
+
+// numbers is a JSON array of numbers that, unlike []float64, rejects null
+// entries (which encoding/json would silently decode as 0).
+type numbers []float64
+
+// UnmarshalJSON decodes an array of numbers, or null as nil.
+func (n *numbers) UnmarshalJSON(b []byte) error {
+	var entries []*float64
+	if err := json.Unmarshal(b, &entries); err != nil {
+		return err
+	}
+	if entries == nil {
+		*n = nil
+		return nil
+	}
+	out := make([]float64, len(entries))
+	for i, e := range entries {
+		if e == nil {
+			return fmt.Errorf("entry %d is null", i)
+		}
+		out[i] = *e
+	}
+	*n = out
+	return nil
 }
 
 // Encode returns the JSON document of s (see the package documentation). A

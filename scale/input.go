@@ -2,6 +2,7 @@ package scale
 
 import (
 	"fmt"
+	"iter"
 	"math"
 
 	"gonum.org/v1/gonum/mat"
@@ -95,17 +96,25 @@ func (in *input) weight(i int) float64 {
 	return in.w[i]
 }
 
+// kept yields each row of positive weight with its weight, in row order.
+// The row slice is only valid until the next step.
+func (in *input) kept() iter.Seq2[[]float64, float64] {
+	return func(yield func([]float64, float64) bool) {
+		for i := range in.rows {
+			if w := in.weight(i); w > 0 && !yield(in.row(i), w) {
+				return
+			}
+		}
+	}
+}
+
 // colRange returns the minimum and maximum of each column over the rows of
 // positive weight.
 func (in *input) colRange() (lo, hi []float64) {
 	lo = make([]float64, in.cols)
 	hi = make([]float64, in.cols)
 	first := true
-	for i := range in.rows {
-		if in.weight(i) == 0 {
-			continue
-		}
-		x := in.row(i)
+	for x := range in.kept() {
 		if first {
 			copy(lo, x)
 			copy(hi, x)

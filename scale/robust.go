@@ -25,10 +25,12 @@ const kindRobust = "robust"
 // statistical packages", The American Statistician 50(4), so the median of
 // an even number of values is the lower of the two middle ones. It equals
 // gonum's stat.Quantile(p, stat.Empirical, sorted, weights), with or
-// without weights, and integer weights act exactly as repeated rows.
+// without weights (with non-integer weights up to the rounding of W, which
+// is summed in a different order), and integer weights act exactly as
+// repeated rows.
 //
-// A column whose interquartile range is 0 (constant, or with more than half
-// its weight on one value) has divisor 1: it is only centred, and a constant
+// A column whose interquartile range is 0 (constant, or whose first and
+// third quartiles are the same value) has divisor 1: it is only centred, and a constant
 // column maps to exactly 0. Affine returns (median, Q3 − Q1) with this
 // substitution.
 //

@@ -12,7 +12,8 @@ const kindUnitLength = "unitlength"
 
 // UnitLength divides each row by its Euclidean (L2) norm, so that only the
 // row's direction remains, as spherical k-means with the Cosine metric
-// expects (Dhillon & Modha 2001). A row of zeros stays zero. The norm is
+// expects (Dhillon & Modha 2001, "Concept decompositions for large sparse
+// text data using clustering", Machine Learning 42). A row of zeros stays zero. The norm is
 // computed without intermediate overflow or underflow (gonum's floats.Norm).
 //
 // UnitLength learns nothing from the values: Learn validates data and

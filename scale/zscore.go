@@ -33,8 +33,9 @@ type ZScore struct {
 
 // Learn returns a *ZScore learned from the rows of data weighted by weights
 // (nil = all ones). It returns an error wrapping ErrEmpty, ErrNotFinite or
-// ErrWeights for bad input. The receiver's learned state, if any, is ignored
-// and left unchanged.
+// ErrWeights for bad input, and ErrNotFinite if a mean or standard deviation
+// overflows float64. The receiver's learned state, if any, is ignored and
+// left unchanged.
 func (ZScore) Learn(data mat.Matrix, weights []float64) (Scaler, error) {
 	in, err := newInput(data, weights)
 	if err != nil {
@@ -42,12 +43,8 @@ func (ZScore) Learn(data mat.Matrix, weights []float64) (Scaler, error) {
 	}
 	lo, hi := in.colRange()
 	mean := make([]float64, in.cols)
-	for i := range in.rows {
-		w := in.weight(i)
-		if w == 0 {
-			continue
-		}
-		for j, v := range in.row(i) {
+	for x, w := range in.kept() {
+		for j, v := range x {
 			mean[j] += w * v
 		}
 	}
@@ -57,18 +54,14 @@ func (ZScore) Learn(data mat.Matrix, weights []float64) (Scaler, error) {
 	// Corrected two-pass: ss − comp²/W removes the rounding error of mean.
 	ss := make([]float64, in.cols)
 	comp := make([]float64, in.cols)
-	for i := range in.rows {
-		w := in.weight(i)
-		if w == 0 {
-			continue
-		}
-		for j, v := range in.row(i) {
+	for x, w := range in.kept() {
+		for j, v := range x {
 			d := v - mean[j]
 			ss[j] += w * d * d
 			comp[j] += w * d
 		}
 	}
-	std := ss // reuse
+	std := ss // overwritten in place: std[j] only reads ss[j]
 	for j := range std {
 		if lo[j] == hi[j] {
 			mean[j], std[j] = lo[j], 1

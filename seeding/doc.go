@@ -3,11 +3,11 @@
 // A Seeder writes k centers into a k×d dst from n×d data with optional
 // per-row weights. Three seeders are provided:
 //
-//	seeder    centers                                      time              extra memory
-//	Random    k distinct rows, drawn by weight              O(n·d) expected   n float64
-//	Uniform   k points uniform in the rows' bounding box    O(n·d + k·d)      O(k·d)
-//	PlusPlus  k-means++ (Arthur & Vassilvitskii 2007),      O(n·d·k·L)        2n or 3n float64
-//	          greedy with L candidates per step
+//	seeder     centers                                      time              extra memory
+//	Random     k distinct rows, drawn by weight             O(n·d) expected   n float64
+//	Uniform    k points uniform in the rows' bounding box   O(n·d + k·d)      O(k·d)
+//	PlusPlus   k-means++ (Arthur & Vassilvitskii 2007),     O(n·d·k·L)        2n or 3n float64
+//	           greedy with L candidates per step
 //
 // PlusPlus is the usual choice: for the within-cluster sum of squares the
 // paper proves that classic k-means++ seeding alone is O(log k)-competitive

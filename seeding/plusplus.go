@@ -23,8 +23,8 @@ import (
 //
 // Duplicates: a row with D(x) = 0 has zero probability, so PlusPlus never
 // returns two equal centers. Rows count as distinct when their loss is
-// positive: under Cosine, rows pointing the same way (x and 2x) are one
-// direction. If every positive-weight row is at loss 0 from the centers
+// positive, so under Cosine two rows pointing the same way (x and 2x) count
+// as one when their computed dissimilarity is exactly 0. If every positive-weight row is at loss 0 from the centers
 // chosen so far before k are found, Seed returns an error wrapping ErrK. If
 // the weighted losses overflow float64, it returns an error wrapping
 // distance.ErrNotFinite.

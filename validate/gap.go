@@ -162,18 +162,30 @@ func Gap(ctx context.Context, X mat.Matrix, ks []int, cluster ClusterFunc, opts 
 		return nil, err
 	}
 	logWRef := make([][]float64, o.B) // [b][i] = log W*_{ks[i], b}
-	errs := make([]error, o.B)
+	// The first failure cancels the other reference sets and is reported
+	// (later ones are usually just the cancellation).
+	var (
+		mu       sync.Mutex
+		firstErr error
+		wg       sync.WaitGroup
+	)
 	ctx, cancel := context.WithCancel(ctx)
 	defer cancel()
 	jobs := make(chan int)
-	var wg sync.WaitGroup
 	for range o.Workers {
 		wg.Go(func() {
 			for b := range jobs {
-				logWRef[b], errs[b] = refLogW(ctx, cluster, box, ks, o.Seed, b)
-				if errs[b] != nil {
+				lw, err := refLogW(ctx, cluster, box, ks, o.Seed, b)
+				if err != nil {
+					mu.Lock()
+					if firstErr == nil {
+						firstErr = err
+					}
+					mu.Unlock()
 					cancel()
+					continue
 				}
+				logWRef[b] = lw
 			}
 		})
 	}
@@ -185,10 +197,8 @@ func Gap(ctx context.Context, X mat.Matrix, ks []int, cluster ClusterFunc, opts 
 	}
 	close(jobs)
 	wg.Wait()
-	for _, err := range errs {
-		if err != nil {
-			return nil, err
-		}
+	if firstErr != nil {
+		return nil, firstErr
 	}
 	if err := ctx.Err(); err != nil {
 		return nil, fmt.Errorf("validate: gap: %w", err)
@@ -272,6 +282,9 @@ func callCluster(ctx context.Context, cluster ClusterFunc, X *mat.Dense, k int, 
 
 // refLogW draws reference set b and returns log W* for every k in ks.
 func refLogW(ctx context.Context, cluster ClusterFunc, box *refBox, ks []int, seed uint64, b int) ([]float64, error) {
+	if err := ctx.Err(); err != nil {
+		return nil, fmt.Errorf("validate: gap: %w", err)
+	}
 	Z := box.draw(rand.New(rand.NewPCG(seed, splitMix(uint64(b)+1))))
 	out := make([]float64, len(ks))
 	for i, k := range ks {

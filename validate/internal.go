@@ -19,6 +19,7 @@ import (
 type rowView struct {
 	n, d, stride int
 	data         []float64
+	maxAbs       float64 // largest |x|, set by checkFinite
 }
 
 // row returns row i with its capacity clipped so that appending cannot write
@@ -57,16 +58,44 @@ func viewRows(X mat.Matrix) (*rowView, error) {
 }
 
 // checkFinite returns an error wrapping ErrNotFinite naming the first NaN or
-// ±Inf element.
+// ±Inf element, and records the largest absolute value.
 func (v *rowView) checkFinite() error {
+	v.maxAbs = 0
 	for i := range v.n {
 		for j, x := range v.row(i) {
 			if math.IsNaN(x) || math.IsInf(x, 0) {
 				return fmt.Errorf("%w: element (%d, %d) is %v", ErrNotFinite, i, j, x)
 			}
+			v.maxAbs = max(v.maxAbs, math.Abs(x))
 		}
 	}
 	return nil
+}
+
+// Data whose largest absolute value lies outside [2^-rangeExp, 2^rangeExp]
+// is rescaled before squared distances are summed, so that they neither
+// overflow nor underflow.
+const rangeExp = 400
+
+// rescaled returns v itself and 0 when its values are of moderate size
+// (checkFinite must have run). Otherwise it returns a copy of v multiplied by
+// the power of two 2^e that brings the largest absolute value into [0.5, 1),
+// and e. Multiplying by a power of two is exact (barring values that become
+// subnormal) and leaves the scale-invariant indices unchanged.
+func (v *rowView) rescaled() (*rowView, int) {
+	if v.maxAbs == 0 || (v.maxAbs >= math.Ldexp(1, -rangeExp) && v.maxAbs <= math.Ldexp(1, rangeExp)) {
+		return v, 0
+	}
+	_, e := math.Frexp(v.maxAbs)
+	e = -e
+	s := &rowView{n: v.n, d: v.d, stride: v.d, data: make([]float64, v.n*v.d)}
+	for i := range v.n {
+		for j, x := range v.row(i) {
+			s.data[i*v.d+j] = math.Ldexp(x, e)
+		}
+	}
+	s.maxAbs = math.Ldexp(v.maxAbs, e)
+	return s, e
 }
 
 // grouping is a clustering with its empty clusters removed: the non-empty
@@ -93,6 +122,9 @@ func groupRows(assign []int) (*grouping, error) {
 		top = max(top, a)
 	}
 	g := &grouping{k: top + 1, id: make([]int, n)}
+	if top == math.MaxInt {
+		g.k = math.MaxInt // saturate; perClusterLimit rejects it
+	}
 	if top < 2*n+1024 {
 		slot := make([]int, top+1)
 		for _, a := range assign {
@@ -218,10 +250,11 @@ func WithinSS(X mat.Matrix, assign []int) ([]float64, error) {
 	if err := g.perClusterLimit(); err != nil {
 		return nil, err
 	}
+	v, e := v.rescaled()
 	w := withinSS(v, g, centroids(v, g))
 	out := make([]float64, g.k)
 	for c, l := range g.label {
-		out[l] = w[c]
+		out[l] = math.Ldexp(w[c], -2*e)
 	}
 	return out, nil
 }
@@ -251,6 +284,7 @@ func CalinskiHarabasz(X mat.Matrix, assign []int) (float64, error) {
 	if err := g.notAllSingletons("Calinski-Harabasz"); err != nil {
 		return 0, err
 	}
+	v, _ = v.rescaled()
 	d := v.d
 	c := centroids(v, g)
 	mean := make([]float64, d)
@@ -302,6 +336,7 @@ func DaviesBouldin(X mat.Matrix, assign []int) (float64, error) {
 	if err := g.atLeastTwo("Davies-Bouldin"); err != nil {
 		return 0, err
 	}
+	v, _ = v.rescaled()
 	d := v.d
 	c := centroids(v, g)
 	K := g.clusters()
@@ -352,6 +387,7 @@ func Dunn(X mat.Matrix, assign []int) (float64, error) {
 	if err := g.atLeastTwo("Dunn"); err != nil {
 		return 0, err
 	}
+	v, _ = v.rescaled()
 	return dunn(v, g, runtime.GOMAXPROCS(0))
 }
 

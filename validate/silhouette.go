@@ -24,22 +24,28 @@ import (
 // a(i) = b(i) = 0. Values lie in [−1, 1]; higher is better.
 //
 // Any metric can be used; nil means distance.Euclidean. The result is exact:
-// all n(n−1) distances are evaluated (O(n²d) time), with O(n + K) extra
-// memory per goroutine rather than an n×n matrix. Rows are processed in
-// parallel on runtime.GOMAXPROCS(0) goroutines; the result is bit-identical
-// for any number of goroutines. For large n see SampledSilhouette.
+// all n(n−1) distances are evaluated (O(n²d) time) with O(n) extra memory
+// (the n values and a length-K scratch per goroutine) rather than an n×n
+// matrix. Rows are processed in parallel on runtime.GOMAXPROCS(0)
+// goroutines; the result is bit-identical for any number of goroutines. For
+// large n see SampledSilhouette.
 //
 // It returns an error wrapping ErrClusters when fewer than two clusters have
 // rows or every row is its own cluster (K == n); ErrParameter (and the
 // distance package's error) for an invalid metric; the distance package's
 // error for a row the metric rejects (such as distance.ErrZeroVector under
-// Cosine); and ErrEmpty, ErrLength, ErrNotFinite or ErrLabel for bad input.
+// Cosine); ErrNotFinite if a custom metric's distances make a(i) or b(i)
+// NaN, infinite or negative; and ErrEmpty, ErrLength, ErrNotFinite or
+// ErrLabel for bad input.
 func Silhouette(X mat.Matrix, assign []int, m distance.Metric) (float64, error) {
 	s, err := newSilhouette(X, assign, m)
 	if err != nil {
 		return 0, err
 	}
-	vals := s.values(nil, nil, runtime.GOMAXPROCS(0))
+	vals, err := s.values(nil, nil, runtime.GOMAXPROCS(0))
+	if err != nil {
+		return 0, err
+	}
 	return meanOf(vals), nil
 }
 
@@ -52,7 +58,7 @@ func SilhouetteValues(dst []float64, X mat.Matrix, assign []int, m distance.Metr
 	if err != nil {
 		return nil, err
 	}
-	return s.values(dst, nil, runtime.GOMAXPROCS(0)), nil
+	return s.values(dst, nil, runtime.GOMAXPROCS(0))
 }
 
 // ClusterSilhouettes returns the mean silhouette s(i) of the rows of every
@@ -68,7 +74,10 @@ func ClusterSilhouettes(X mat.Matrix, assign []int, m distance.Metric) ([]float6
 	if err := s.g.perClusterLimit(); err != nil {
 		return nil, err
 	}
-	vals := s.values(nil, nil, runtime.GOMAXPROCS(0))
+	vals, err := s.values(nil, nil, runtime.GOMAXPROCS(0))
+	if err != nil {
+		return nil, err
+	}
 	sum := make([]float64, s.g.clusters())
 	for i, x := range vals {
 		sum[s.g.id[i]] += x
@@ -137,7 +146,11 @@ func SampledSilhouette(X mat.Matrix, assign []int, m distance.Metric, samples in
 	}
 	n := s.v.n
 	if samples >= n {
-		mean := meanOf(s.values(nil, nil, runtime.GOMAXPROCS(0)))
+		vals, err := s.values(nil, nil, runtime.GOMAXPROCS(0))
+		if err != nil {
+			return Estimate{}, err
+		}
+		mean := meanOf(vals)
 		return Estimate{Mean: mean, Lo: mean, Hi: mean, Samples: n}, nil
 	}
 	perm := make([]int, n)
@@ -148,7 +161,10 @@ func SampledSilhouette(X mat.Matrix, assign []int, m distance.Metric, samples in
 		u := t + rnd.IntN(n-t)
 		perm[t], perm[u] = perm[u], perm[t]
 	}
-	vals := s.values(nil, perm[:samples], runtime.GOMAXPROCS(0))
+	vals, err := s.values(nil, perm[:samples], runtime.GOMAXPROCS(0))
+	if err != nil {
+		return Estimate{}, err
+	}
 	mean := meanOf(vals)
 	var ss float64
 	for _, x := range vals {
@@ -191,6 +207,12 @@ func newSilhouette(X mat.Matrix, assign []int, m distance.Metric) (*silhouette, 
 			}
 		}
 	}
+	switch m.(type) {
+	case distance.Euclidean, distance.Manhattan, distance.Cosine, distance.Chebyshev,
+		distance.Minkowski, *distance.Minkowski:
+		// Scale-invariant metrics: avoid overflow and underflow.
+		v, _ = v.rescaled()
+	}
 	if err := g.atLeastTwo("silhouette"); err != nil {
 		return nil, err
 	}
@@ -203,8 +225,9 @@ func newSilhouette(X mat.Matrix, assign []int, m distance.Metric) (*silhouette, 
 // values returns s(i) for the given rows (all rows if rows is nil) in dst,
 // reallocated if its capacity is too small, using at most workers goroutines.
 // Each value is computed by one goroutine in a fixed order, so the result
-// does not depend on workers.
-func (s *silhouette) values(dst []float64, rows []int, workers int) []float64 {
+// does not depend on workers. A metric that returns NaN, ±Inf or a negative
+// distance makes a value NaN, reported as ErrNotFinite.
+func (s *silhouette) values(dst []float64, rows []int, workers int) ([]float64, error) {
 	cnt := s.v.n
 	if rows != nil {
 		cnt = len(rows)
@@ -226,7 +249,16 @@ func (s *silhouette) values(dst []float64, rows []int, workers int) []float64 {
 			dst[r] = s.row(i, scratch[w])
 		}
 	})
-	return dst
+	for r, x := range dst {
+		if math.IsNaN(x) {
+			i := r
+			if rows != nil {
+				i = rows[r]
+			}
+			return nil, fmt.Errorf("%w: the %s metric gave a silhouette of NaN for row %d (distances must be finite and non-negative)", ErrNotFinite, s.m.Name(), i)
+		}
+	}
+	return dst, nil
 }
 
 // row returns s(i), using sums (length K) as scratch.
@@ -260,6 +292,9 @@ func (s *silhouette) row(i int, sums []float64) float64 {
 		}
 	}
 	den := max(a, b)
+	if !(a >= 0 && b >= 0) || math.IsInf(den, 1) {
+		return math.NaN() // a broken metric; reported by values
+	}
 	if den == 0 {
 		return 0
 	}

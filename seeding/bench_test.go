@@ -1,0 +1,45 @@
+package seeding_test
+
+import (
+	"fmt"
+	"math/rand/v2"
+	"testing"
+
+	"github.com/centroidlab/centroid/seeding"
+	"gonum.org/v1/gonum/mat"
+)
+
+// Benchmark sizes: rows, columns and centers.
+var (
+	benchRows    = []int{10_000, 100_000}
+	benchCols    = []int{2, 16}
+	benchCenters = []int{8, 64}
+)
+
+func benchmarkSeed(b *testing.B, s seeding.Seeder, n, d, k int) {
+	data := gaussRows(rand.New(rand.NewPCG(1, 1)), n, d)
+	dst := mat.NewDense(k, d, nil)
+	rnd := rand.New(rand.NewPCG(1, 2))
+	b.ReportAllocs()
+	for b.Loop() {
+		if err := s.Seed(dst, data, nil, nil, rnd); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
+
+// benchmarkGrid runs s on every combination of the benchmark sizes.
+func benchmarkGrid(b *testing.B, s seeding.Seeder) {
+	for _, n := range benchRows {
+		for _, d := range benchCols {
+			for _, k := range benchCenters {
+				b.Run(fmt.Sprintf("n=%d/d=%d/k=%d", n, d, k), func(b *testing.B) { benchmarkSeed(b, s, n, d, k) })
+			}
+		}
+	}
+}
+
+func BenchmarkPlusPlus(b *testing.B)        { benchmarkGrid(b, seeding.PlusPlus{}) }
+func BenchmarkPlusPlusClassic(b *testing.B) { benchmarkGrid(b, seeding.PlusPlus{Candidates: 1}) }
+func BenchmarkRandom(b *testing.B)          { benchmarkGrid(b, seeding.Random{}) }
+func BenchmarkUniform(b *testing.B)         { benchmarkGrid(b, seeding.Uniform{}) }
