@@ -5,14 +5,20 @@
 //
 // It generates the stations deterministically, z-scores the six usage
 // features (they come in trips, fractions, minutes, bikes and metres),
-// sweeps k, picks k by a documented rule, clusters, profiles every cluster
-// in original units, saves the model as JSON, reloads it and labels a few
-// proposed stations.
+// sweeps k with kmeans.Sweep (silhouette, Davies–Bouldin,
+// Calinski–Harabasz, Dunn, the knee of the cost curve, the gap statistic
+// and resample stability), takes the recommended k (or the one given with
+// -k), profiles every cluster in original units, draws the evidence
+// (indices.png, silhouette.png, pca.png in the output folder), saves the
+// model as JSON, reloads it and labels a few proposed stations.
 //
 // Run it from the module root:
 //
 //	go run ./examples/segment
-//	go run ./examples/segment -stations 400 -kmin 2 -kmax 9 -out /tmp/segment
+//	go run ./examples/segment -stations 400 -kmax 9 -out /tmp/segment -format svg
+//
+// The output folder defaults to out/segment; the report names every file
+// it writes.
 package main
 
 import (
@@ -20,15 +26,20 @@ import (
 	"flag"
 	"fmt"
 	"os"
+	"path/filepath"
 )
 
 func main() {
-	var o options
-	flag.IntVar(&o.stations, "stations", 300, "number of docking stations to generate")
-	flag.Uint64Var(&o.seed, "seed", 2026, "seed for the demo data and the clustering")
-	flag.IntVar(&o.kmin, "kmin", 2, "smallest k of the sweep")
-	flag.IntVar(&o.kmax, "kmax", 8, "largest k of the sweep")
-	flag.StringVar(&o.out, "out", "segment-out", "folder for the saved model (created if missing)")
+	o := defaults()
+	flag.IntVar(&o.stations, "stations", o.stations, "number of docking stations to generate")
+	flag.Uint64Var(&o.seed, "seed", o.seed, "seed for the demo data and the clustering")
+	flag.IntVar(&o.kmin, "kmin", o.kmin, "smallest k of the sweep (1 lets the gap statistic say there is no structure)")
+	flag.IntVar(&o.kmax, "kmax", o.kmax, "largest k of the sweep")
+	flag.IntVar(&o.k, "k", o.k, "use this k instead of the recommended one (0: the recommendation)")
+	flag.IntVar(&o.refs, "gap-refs", o.refs, "reference data sets of the gap statistic (0: skip the gap statistic)")
+	flag.IntVar(&o.resamples, "resamples", o.resamples, "subsamples clustered again per k for stability (0: skip stability)")
+	flag.StringVar(&o.out, "out", o.out, "folder for the model and the plots (created if missing)")
+	flag.StringVar(&o.format, "format", o.format, "plot format: png or svg")
 	flag.Parse()
 	if err := run(context.Background(), os.Stdout, o); err != nil {
 		fmt.Fprintln(os.Stderr, "segment:", err)
@@ -40,5 +51,14 @@ type options struct {
 	stations   int
 	seed       uint64
 	kmin, kmax int
+	k          int
+	refs       int
+	resamples  int
 	out        string
+	format     string
+}
+
+// defaults returns the options of a plain `go run ./examples/segment`.
+func defaults() options {
+	return options{stations: 300, seed: 2026, kmin: 1, kmax: 8, refs: 10, resamples: 10, out: filepath.Join("out", "segment"), format: "png"}
 }

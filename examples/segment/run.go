@@ -5,81 +5,117 @@ import (
 	"encoding/json"
 	"fmt"
 	"io"
-	"math"
 	"os"
 	"path/filepath"
-	"slices"
 	"strings"
-	"text/tabwriter"
 
 	"github.com/centroidlab/centroid/distance"
 	"github.com/centroidlab/centroid/internal/bikeshare"
 	"github.com/centroidlab/centroid/kmeans"
+	"github.com/centroidlab/centroid/plot"
 	"github.com/centroidlab/centroid/scale"
 	"github.com/centroidlab/centroid/validate"
 	"gonum.org/v1/gonum/mat"
-	"gonum.org/v1/gonum/stat"
 )
 
-// sweepRow is the evidence for one k.
-type sweepRow struct {
-	k                 int
-	res               *kmeans.Result
-	cost, sil, db, ch float64
-}
+// Effort of the sweep: enough restarts for 300 stations, few for the
+// gap statistic's reference sets and the stability resamples, so that the
+// whole job takes a few seconds.
+const (
+	sweepRestarts    = 10
+	gapRestarts      = 2
+	resampleRestarts = 3
+)
 
 func run(ctx context.Context, w io.Writer, o options) error {
-	if o.kmin < 2 || o.kmax < o.kmin {
-		return fmt.Errorf("need 2 ≤ kmin ≤ kmax, got %d..%d", o.kmin, o.kmax)
+	switch {
+	case o.stations < 2:
+		return fmt.Errorf("need at least 2 stations, got %d", o.stations)
+	case o.kmin < 1 || o.kmax < o.kmin:
+		return fmt.Errorf("need 1 ≤ kmin ≤ kmax, got %d..%d", o.kmin, o.kmax)
+	case o.k != 0 && (o.k < o.kmin || o.k > o.kmax):
+		return fmt.Errorf("-k %d is outside the sweep %d..%d", o.k, o.kmin, o.kmax)
+	case o.format != "png" && o.format != "svg":
+		return fmt.Errorf("-format %q: want png or svg", o.format)
 	}
-	_, X := bikeshare.Generate(o.stations, o.seed)
+	stations, X := bikeshare.Generate(o.stations, o.seed)
 	names, units := bikeshare.Features(), bikeshare.Units()
 	n, d := X.Dims()
 	fmt.Fprintf(w, "%s: %d docking stations × %d usage features (invented demo data, seed %d)\n", bikeshare.Operator, n, d, o.seed)
 	fmt.Fprintf(w, "features: %s\n", featureList(names, units))
-	fmt.Fprintln(w, "scaling: z-score per feature (weighted mean and population standard deviation)")
+	fmt.Fprintln(w, "scaling: z-score per feature (mean and population standard deviation); all scores are measured on the scaled features")
 
-	// Sweep k.
-	settings := &kmeans.Settings{Restarts: 10, Seed: o.seed}
-	var rows []sweepRow
+	// Sweep k and read the evidence.
+	var ks []int
 	for k := o.kmin; k <= o.kmax; k++ {
-		res, err := kmeans.Cluster(ctx, kmeans.Problem{Data: X, K: k, Scaler: &scale.ZScore{}}, settings, nil)
-		if err != nil {
-			return fmt.Errorf("k=%d: %w", k, err)
-		}
-		Z := scaled(X, res.Model)
-		r := sweepRow{k: k, res: res, cost: res.Cost}
-		if r.sil, err = validate.Silhouette(Z, res.Assignments, distance.Euclidean{}); err != nil {
-			return err
-		}
-		if r.db, err = validate.DaviesBouldin(Z, res.Assignments); err != nil {
-			return err
-		}
-		if r.ch, err = validate.CalinskiHarabasz(Z, res.Assignments); err != nil {
-			return err
-		}
-		rows = append(rows, r)
+		ks = append(ks, k)
 	}
-	fmt.Fprintln(w, "\nk sweep (scaled space; silhouette and Calinski–Harabasz: higher is better; Davies–Bouldin: lower is better)")
-	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
-	fmt.Fprintln(tw, "k\tcost\tsilhouette\tDavies–Bouldin\tCalinski–Harabasz\t")
-	for _, r := range rows {
-		fmt.Fprintf(tw, "%d\t%.1f\t%.3f\t%.3f\t%.1f\t\n", r.k, r.cost, r.sil, r.db, r.ch)
+	opts := &kmeans.SweepOptions{
+		SkipGap:       o.refs == 0,
+		GapReferences: o.refs,
+		GapRestarts:   gapRestarts,
+		SkipStability: o.resamples == 0,
+		Stability:     kmeans.StabilityOptions{Resamples: o.resamples, Restarts: resampleRestarts},
 	}
-	tw.Flush()
+	problem := kmeans.Problem{Data: X, Scaler: &scale.ZScore{}}
+	sw, err := kmeans.Sweep(ctx, problem, ks, &kmeans.Settings{Restarts: sweepRestarts, Seed: o.seed}, nil, opts)
+	if err != nil {
+		return fmt.Errorf("sweep: %w", err)
+	}
+	fmt.Fprintf(w, "\nk sweep: k = %d..%d, %d restarts per k", o.kmin, o.kmax, sweepRestarts)
+	if !opts.SkipGap {
+		fmt.Fprintf(w, "; gap statistic with %d reference sets", o.refs)
+	}
+	if !opts.SkipStability {
+		fmt.Fprintf(w, "; stability from %d resamples on 80%% subsamples", o.resamples)
+	}
+	fmt.Fprintln(w, "\n(silhouette, Calinski–Harabasz, Dunn, gap, ARI and Jaccard: higher is better; Davies–Bouldin: lower is better)")
+	if _, err := sw.WriteTo(w); err != nil {
+		return err
+	}
 
-	best := pick(rows)
-	fmt.Fprintf(w, "\nchosen k = %d: the highest mean silhouette (%.3f); ties go to the smaller k\n", best.k, best.sil)
-	fmt.Fprintf(w, "  Davies–Bouldin lowest at k = %d, Calinski–Harabasz highest at k = %d\n", argBest(rows, func(r sweepRow) float64 { return -r.db }), argBest(rows, func(r sweepRow) float64 { return r.ch }))
+	k := sw.Recommendation.K
+	how := "the recommendation"
+	if o.k != 0 {
+		k, how = o.k, "-k"
+	}
+	pt := sw.Point(k)
+	res := pt.Result
+	fmt.Fprintf(w, "\nchosen k = %d (%s)\n", k, how)
+	truth := bikeshare.KindsOf(stations)
+	if ari, err := validate.AdjustedRand(truth, res.Assignments); err == nil {
+		fmt.Fprintf(w, "agreement with the %d latent station kinds (known only because the data is invented): adjusted Rand index %.3f\n", bikeshare.NumKinds, ari)
+	}
 
-	profile(w, X, best.res, names, units)
+	// Profiles in original units.
+	pf, err := kmeans.Describe(X, res, &kmeans.ProfileOptions{Features: names, Units: units})
+	if err != nil {
+		return fmt.Errorf("profiles: %w", err)
+	}
+	fmt.Fprintln(w, "\ncluster profiles (original units)")
+	if _, err := pf.WriteTo(w); err != nil {
+		return err
+	}
+	fmt.Fprintln(w, "\nwhat sets each cluster apart (cluster mean − overall mean, in overall standard deviations):")
+	for c, line := range pf.Apart() {
+		fmt.Fprintf(w, "  cluster %d (%d stations): %s\n", c, pf.Clusters[c].Size, line)
+	}
 
-	// Save, reload, label proposed stations.
+	// Plots and the model go to the output folder.
 	if err := os.MkdirAll(o.out, 0o755); err != nil {
 		return err
 	}
+	files, err := drawPlots(o, sw, res, X)
+	if err != nil {
+		return err
+	}
+	fmt.Fprintf(w, "\nplots written to %s:\n", o.out)
+	for _, f := range files {
+		fmt.Fprintf(w, "  %s\n", f)
+	}
+
 	path := filepath.Join(o.out, "model.json")
-	doc, err := json.MarshalIndent(best.res.Model, "", " ")
+	doc, err := json.MarshalIndent(res.Model, "", " ")
 	if err != nil {
 		return err
 	}
@@ -101,9 +137,56 @@ func run(ctx context.Context, w io.Writer, o options) error {
 		if err != nil {
 			return err
 		}
-		fmt.Fprintf(w, "  %s %-28s → cluster %d (distance %.2f)\n", s.ID, s.Name, c, dist)
+		fmt.Fprintf(w, "  %s %-28s → cluster %d (distance %.2f; %s)\n", s.ID, s.Name, c, dist, firstContrast(pf, c))
 	}
 	return nil
+}
+
+// drawPlots writes the three figures into o.out and returns their paths.
+func drawPlots(o options, sw *kmeans.SweepResult, res *kmeans.Result, X *mat.Dense) ([]string, error) {
+	Z := scaled(X, res.Model)
+	var files []string
+	save := func(name string, fig *plot.Figure, err error) error {
+		if err != nil {
+			return fmt.Errorf("%s plot: %w", name, err)
+		}
+		path := filepath.Join(o.out, name+"."+o.format)
+		if err := fig.Save(path, nil); err != nil {
+			return err
+		}
+		files = append(files, path)
+		return nil
+	}
+	fig, err := plot.Indices(sw)
+	if err := save("indices", fig, err); err != nil {
+		return nil, err
+	}
+	if res.Model.K() >= 2 {
+		s, err := validate.SilhouetteValues(nil, Z, res.Assignments, distance.Euclidean{})
+		if err != nil {
+			return nil, fmt.Errorf("silhouette plot: %w", err)
+		}
+		fig, err = plot.Silhouette(s, res.Assignments)
+		if err := save("silhouette", fig, err); err != nil {
+			return nil, err
+		}
+	}
+	fig, err = plot.Components(Z, res.Assignments, res.Model.ScaledCenters())
+	if err := save("pca", fig, err); err != nil {
+		return nil, err
+	}
+	return files, nil
+}
+
+// scaled returns the stations in the clustering space: the raw features
+// with the model's learned scaler applied.
+func scaled(X *mat.Dense, m *kmeans.Model) *mat.Dense {
+	n, d := X.Dims()
+	Z := mat.NewDense(n, d, nil)
+	for i := range n {
+		m.Scaler().Apply(Z.RawRowView(i), X.RawRowView(i))
+	}
+	return Z
 }
 
 func featureList(names, units []string) string {
@@ -114,131 +197,15 @@ func featureList(names, units []string) string {
 	return strings.Join(parts, ", ")
 }
 
-// scaled returns the data in the model's clustering space.
-func scaled(X *mat.Dense, m *kmeans.Model) *mat.Dense {
-	n, d := X.Dims()
-	Z := mat.NewDense(n, d, nil)
-	for i := range n {
-		m.Scaler().Apply(Z.RawRowView(i), X.RawRowView(i))
+// firstContrast describes the cluster by its most distinctive feature.
+func firstContrast(pf *kmeans.Profile, c int) string {
+	a := pf.Clusters[c].Apart
+	if len(a) == 0 {
+		return "an average station"
 	}
-	return Z
-}
-
-// pick returns the row with the highest silhouette, the smaller k on ties.
-func pick(rows []sweepRow) sweepRow {
-	best := rows[0]
-	for _, r := range rows[1:] {
-		if r.sil > best.sil {
-			best = r
-		}
+	dir := "high"
+	if a[0].Z < 0 {
+		dir = "low"
 	}
-	return best
-}
-
-func argBest(rows []sweepRow, score func(sweepRow) float64) int {
-	best := rows[0]
-	for _, r := range rows[1:] {
-		if score(r) > score(best) {
-			best = r
-		}
-	}
-	return best.k
-}
-
-// profile prints each cluster in original units: size and share, feature
-// means, and the features that set it apart (difference of the cluster mean
-// from the overall mean in overall standard deviations, |z| ≥ 0.75).
-func profile(w io.Writer, X *mat.Dense, res *kmeans.Result, names, units []string) {
-	n, d := X.Dims()
-	means, sds := make([]float64, d), make([]float64, d)
-	col := make([]float64, n)
-	for j := range d {
-		mat.Col(col, j, X)
-		means[j], sds[j] = stat.PopMeanStdDev(col, nil)
-	}
-	fmt.Fprintln(w, "\ncluster profiles (original units)")
-	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
-	fmt.Fprint(tw, "cluster\tstations\tshare\t")
-	for j := range d {
-		fmt.Fprintf(tw, "%s\t", names[j])
-	}
-	fmt.Fprintln(tw)
-	k := res.Model.K()
-	cm := make([][]float64, k)
-	for c := range k {
-		cm[c] = make([]float64, d)
-		var members int
-		for i, a := range res.Assignments {
-			if a == c {
-				members++
-				for j := range d {
-					cm[c][j] += X.At(i, j)
-				}
-			}
-		}
-		for j := range d {
-			cm[c][j] /= float64(members)
-		}
-		fmt.Fprintf(tw, "%d\t%d\t%.0f%%\t", c, res.Sizes[c], 100*float64(res.Sizes[c])/float64(n))
-		for j := range d {
-			fmt.Fprintf(tw, "%.*f\t", decimals(sds[j]), cm[c][j])
-		}
-		fmt.Fprintln(tw)
-	}
-	fmt.Fprint(tw, "all\t", n, "\t100%\t")
-	for j := range d {
-		fmt.Fprintf(tw, "%.*f\t", decimals(sds[j]), means[j])
-	}
-	fmt.Fprintln(tw)
-	tw.Flush()
-	fmt.Fprintln(w, "\nwhat sets each cluster apart (cluster mean − overall mean, in overall standard deviations):")
-	for c := range k {
-		type feat struct {
-			j int
-			z float64
-		}
-		var fs []feat
-		for j := range d {
-			if sds[j] > 0 {
-				fs = append(fs, feat{j, (cm[c][j] - means[j]) / sds[j]})
-			}
-		}
-		slices.SortStableFunc(fs, func(a, b feat) int {
-			switch {
-			case math.Abs(a.z) > math.Abs(b.z):
-				return -1
-			case math.Abs(a.z) < math.Abs(b.z):
-				return 1
-			}
-			return 0
-		})
-		var parts []string
-		for _, f := range fs {
-			if math.Abs(f.z) < 0.75 || len(parts) == 3 {
-				break
-			}
-			dir := "high"
-			if f.z < 0 {
-				dir = "low"
-			}
-			parts = append(parts, fmt.Sprintf("%s %s (%+.1f sd, %.*f %s)", dir, names[f.j], f.z, decimals(sds[f.j]), cm[c][f.j], units[f.j]))
-		}
-		if len(parts) == 0 {
-			parts = append(parts, "close to the network average on every feature")
-		}
-		fmt.Fprintf(w, "  cluster %d: %s\n", c, strings.Join(parts, "; "))
-	}
-}
-
-// decimals picks a print precision from a feature's spread.
-func decimals(v float64) int {
-	switch a := math.Abs(v); {
-	case a >= 100:
-		return 0
-	case a >= 10:
-		return 1
-	case a >= 1:
-		return 2
-	}
-	return 3
+	return fmt.Sprintf("%s %s", dir, a[0].Name)
 }
