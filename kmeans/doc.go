@@ -38,6 +38,13 @@
 // number of rows, and per-block statistics (Partial) are merged in block
 // order. Restart r seeds its generator with (Settings.Seed, r).
 //
+// # Choosing k
+//
+// Sweep scores a range of k (internal indices, the knee of the cost curve,
+// the gap statistic and stability under resampling) and recommends one by a
+// documented heuristic; MeasureStability and Describe judge and explain a
+// single clustering.
+//
 // # Invariants
 //
 // Cluster never modifies Problem.Data, Problem.Weights or Problem.Scaler.
