@@ -4,6 +4,7 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"github.com/centroidlab/centroid/internal/sample"
 	"math"
 	"math/rand/v2"
 	"slices"
@@ -309,16 +310,7 @@ func splitMix64(x uint64) uint64 {
 // subsample returns size distinct row indices of [0, n) in ascending order,
 // the first size entries of a partial Fisher–Yates shuffle.
 func subsample(n, size int, seed uint64) []int {
-	rnd := rand.New(rand.NewPCG(seed, stabilityStream))
-	perm := make([]int, n)
-	for i := range perm {
-		perm[i] = i
-	}
-	for t := range size {
-		u := t + rnd.IntN(n-t)
-		perm[t], perm[u] = perm[u], perm[t]
-	}
-	out := perm[:size:size]
+	out := sample.Without(rand.New(rand.NewPCG(seed, stabilityStream)), n, size)
 	slices.Sort(out)
 	return out
 }

@@ -2,6 +2,7 @@ package validate
 
 import (
 	"fmt"
+	"github.com/centroidlab/centroid/internal/sample"
 	"math"
 	"math/rand/v2"
 	"runtime"
@@ -153,15 +154,7 @@ func SampledSilhouette(X mat.Matrix, assign []int, m distance.Metric, samples in
 		mean := meanOf(vals)
 		return Estimate{Mean: mean, Lo: mean, Hi: mean, Samples: n}, nil
 	}
-	perm := make([]int, n)
-	for i := range perm {
-		perm[i] = i
-	}
-	for t := range samples {
-		u := t + rnd.IntN(n-t)
-		perm[t], perm[u] = perm[u], perm[t]
-	}
-	vals, err := s.values(nil, perm[:samples], runtime.GOMAXPROCS(0))
+	vals, err := s.values(nil, sample.Without(rnd, n, samples), runtime.GOMAXPROCS(0))
 	if err != nil {
 		return Estimate{}, err
 	}
