@@ -105,6 +105,13 @@ func Cluster(ctx context.Context, p Problem, s *Settings, m Method) (*Result, er
 	}
 	stats.Method = methodName(m)
 	res := pr.result(best, p.K, stats)
+	if p.Features != nil {
+		m, err := res.Model.WithFeatures(p.Features)
+		if err != nil {
+			return nil, err // unreachable: checked in prepare
+		}
+		res.Model = m
+	}
 	if cerr := ctx.Err(); cerr != nil {
 		res.Status = Canceled
 		return res, cerr
@@ -140,6 +147,11 @@ func prepare(p Problem) (*prepared, error) {
 	obj, ok := metric.(distance.Objective)
 	if !ok {
 		return nil, fmt.Errorf("%w: %s has no k-means center rule (use Euclidean, Manhattan or Cosine)", ErrMetric, metric.Name())
+	}
+	if p.Features != nil {
+		if _, err := checkFeatures(p.Features, d); err != nil {
+			return nil, err
+		}
 	}
 	if err := checkWeights(p.Weights, n); err != nil {
 		return nil, err

@@ -317,6 +317,8 @@ func TestBadInput(t *testing.T) {
 		{"no center rule", Problem{Data: ok, K: 2, Metric: distance.Chebyshev{}}, nil, ErrMetric},
 		{"bad minkowski", Problem{Data: ok, K: 2, Metric: distance.Minkowski{}}, nil, ErrMetric},
 		{"zero row cosine", Problem{Data: zero, K: 1, Metric: distance.Cosine{}}, nil, ErrMetric},
+		{"too few feature names", Problem{Data: ok, K: 2, Features: []string{"a"}}, nil, ErrSchema},
+		{"repeated feature names", Problem{Data: ok, K: 2, Features: []string{"a", "a"}}, nil, ErrSchema},
 		{"negative restarts", Problem{Data: ok, K: 2}, &Settings{Restarts: -1}, ErrSettings},
 		{"negative iterations", Problem{Data: ok, K: 2}, &Settings{MaxIterations: -1}, ErrSettings},
 		{"negative workers", Problem{Data: ok, K: 2}, &Settings{Workers: -1}, ErrSettings},
@@ -361,6 +363,13 @@ func TestModelNearestAndJSON(t *testing.T) {
 			require.JSONEq(t, string(b), string(b2))
 		}
 	}
+}
+
+func TestProblemFeatures(t *testing.T) {
+	x := blobs(100, 2, 2, 13)
+	res, err := Cluster(context.Background(), Problem{Data: x, K: 2, Features: []string{"trips_per_day", "weekend_share"}}, nil, nil)
+	require.NoError(t, err)
+	assert.Equal(t, []string{"trips_per_day", "weekend_share"}, res.Model.Features())
 }
 
 func TestNearestAllocs(t *testing.T) {

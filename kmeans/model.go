@@ -1,11 +1,10 @@
 package kmeans
 
 import (
-	"bytes"
-	"encoding/json"
 	"fmt"
 	"math"
 	"sync"
+	"time"
 
 	"github.com/centroidlab/centroid/distance"
 	"github.com/centroidlab/centroid/scale"
@@ -14,11 +13,15 @@ import (
 )
 
 // Model is a fitted clustering: k centers in the clustering space, the
-// metric, and the learned scaler that maps raw rows into that space.
+// metric, and the learned scaler that maps raw rows into that space. A
+// Model may also carry a schema (feature names, see WithFeatures), its
+// creation time (WithCreated), the library version that made it and a
+// summary of its training data (Training).
 //
 // A Model is immutable once made by Cluster or decoded, and safe for
-// concurrent use by multiple goroutines. Its zero value has no centers;
-// its methods return an error wrapping ErrModel.
+// concurrent use by multiple goroutines; the With methods return modified
+// copies. Its zero value has no centers; its methods return an error
+// wrapping ErrModel.
 type Model struct {
 	k, d    int
 	centers []float64 // k×d, clustering space
@@ -28,7 +31,16 @@ type Model struct {
 	scaler  scale.Scaler
 	shift   []float64 // affine scaler: z = (x − shift)/div
 	div     []float64
-	pool    *sync.Pool // *[]float64 scratch of length d, for the general path
+	pool    *sync.Pool   // *[]float64 scratch of length d, for the general path
+	index   *searchIndex // nil: scan every center
+
+	// Document content (see model_file.go).
+	features []string       // nil: no schema
+	columns  map[string]int // feature name → column
+	created  time.Time      // zero: unknown
+	library  string         // LibraryVersion of the code that made the model
+	training *Training      // nil: no summary (version 1 documents)
+	digest   *digest        // lazily computed checksum of the canonical document
 }
 
 type metricKind int
@@ -40,11 +52,15 @@ const (
 	cosine
 )
 
-// stackDim is the largest dimension served from a stack buffer in Nearest.
-const stackDim = 64
+// stackDim is the largest dimension served from a stack buffer in Nearest;
+// smallDim the largest served from a smaller one (less to clear per call).
+const (
+	stackDim = 64
+	smallDim = 16
+)
 
 func newModel(centers []float64, k, d int, metric distance.Objective, sc scale.Scaler) *Model {
-	m := &Model{k: k, d: d, centers: append([]float64(nil), centers...), metric: metric, scaler: sc}
+	m := &Model{k: k, d: d, centers: append([]float64(nil), centers...), metric: metric, scaler: sc, library: LibraryVersion, digest: new(digest)}
 	switch metric.(type) {
 	case distance.Euclidean:
 		m.kind = euclidean
@@ -63,6 +79,9 @@ func newModel(centers []float64, k, d int, metric distance.Objective, sc scale.S
 				copy(m.raw[j*d:(j+1)*d], m.centers[j*d:(j+1)*d])
 			}
 		}
+	}
+	if m.kind == euclidean || m.kind == manhattan {
+		m.index = newSearchIndex(m.centers, k, d, m.kind)
 	}
 	m.pool = &sync.Pool{New: func() any { s := make([]float64, d); return &s }}
 	return m
@@ -99,6 +118,20 @@ func (m *Model) ScaledCenters() *mat.Dense {
 	return mat.NewDense(m.k, m.d, append([]float64(nil), m.centers...))
 }
 
+// Assignment is the answer for one row: its cluster, the distance to that
+// cluster's center and the margin to the runner-up.
+type Assignment struct {
+	// Cluster is the index of the nearest center (lowest index on ties).
+	Cluster int
+	// Distance is the distance from the row to that center in the
+	// clustering space, as returned by Nearest.
+	Distance float64
+	// Margin is the distance to the second-nearest center minus Distance:
+	// zero when two centers are equally near, large when the label is
+	// clear-cut. It is +Inf when the model has a single cluster.
+	Margin float64
+}
+
 // Nearest returns the cluster whose center is nearest to the raw row x and
 // the distance to it in the clustering space (Euclidean distance, Manhattan
 // distance or cosine dissimilarity 1−cos). Ties go to the lowest index, as
@@ -106,141 +139,262 @@ func (m *Model) ScaledCenters() *mat.Dense {
 //
 // It allocates nothing and is safe for concurrent use. It returns an error
 // wrapping ErrDimension if len(x) != Dim(), ErrNotFinite if x holds NaN or
-// ±Inf, ErrMetric if the metric rejects the scaled row (a zero row under
-// Cosine), or ErrModel for a zero Model.
+// ±Inf (or scales to ±Inf), ErrMetric if the metric rejects the scaled row
+// (a zero row under Cosine), or ErrModel for a zero Model.
+//
+// Under Euclidean and Manhattan the search skips centers that provably
+// cannot be nearest (bounds from center-to-center distances and from a
+// projection, with margins for rounding) and stops summing a distance once
+// it exceeds the best so far; every center it does not skip is measured
+// with exactly the arithmetic of the metric's Loss, so the answer is the
+// one a full scan gives, bit for bit.
 func (m *Model) Nearest(x []float64) (int, float64, error) {
-	if err := m.check(x); err != nil {
+	j, loss, _, err := m.locate(x, false)
+	if err != nil {
 		return -1, 0, err
 	}
-	if m.kind != otherMetric && (m.scaler == nil || m.shift != nil) && m.d <= stackDim {
-		var buf [stackDim]float64
-		z := buf[:m.d]
-		if m.shift != nil {
-			for j, v := range x {
-				z[j] = (v - m.shift[j]) / m.div[j]
-			}
-		} else {
-			copy(z, x)
+	return j, m.lossToDistance(loss), nil
+}
+
+// Assign is Nearest with the margin to the second-nearest center. It
+// allocates nothing, is safe for concurrent use and returns the same
+// errors as Nearest (with Cluster = -1).
+func (m *Model) Assign(x []float64) (Assignment, error) {
+	j, loss, second, err := m.locate(x, true)
+	if err != nil {
+		return Assignment{Cluster: -1}, err
+	}
+	d := m.lossToDistance(loss)
+	return Assignment{Cluster: j, Distance: d, Margin: m.lossToDistance(second) - d}, nil
+}
+
+// lossToDistance converts a loss of the model's metric to a distance.
+func (m *Model) lossToDistance(l float64) float64 {
+	if m.kind == euclidean {
+		return math.Sqrt(l)
+	}
+	return l // Manhattan and Cosine losses are distances; locateOther returns distances
+}
+
+// locate finds the nearest center of the raw row x and, if second, the
+// loss of the second-nearest (+Inf if k = 1). Built-in metrics return
+// losses, other metrics distances.
+func (m *Model) locate(x []float64, second bool) (int, float64, float64, error) {
+	if m == nil || m.k == 0 {
+		return -1, 0, 0, fmt.Errorf("%w: model has no centers", ErrModel)
+	}
+	if len(x) != m.d {
+		return -1, 0, 0, fmt.Errorf("%w: row has %d values, model has %d features", ErrDimension, len(x), m.d)
+	}
+	if m.kind != otherMetric && (m.scaler == nil || m.shift != nil) {
+		switch {
+		case m.d <= smallDim:
+			var buf [smallDim]float64
+			return m.locateKnown(buf[:m.d], x, second)
+		case m.d <= stackDim:
+			var buf [stackDim]float64
+			return m.locateKnown(buf[:m.d], x, second)
 		}
-		return m.nearestKnown(z)
 	}
 	p := m.pool.Get().(*[]float64)
 	defer m.pool.Put(p)
 	z := *p
+	if err := checkFinite1(x, ""); err != nil {
+		return -1, 0, 0, err
+	}
 	if m.scaler != nil {
 		m.scaler.Apply(z, x)
+		if err := checkFinite1(z, " after scaling"); err != nil {
+			return -1, 0, 0, err
+		}
 	} else {
 		copy(z, x)
 	}
 	if m.kind != otherMetric {
-		return m.nearestKnown(z)
+		return m.searchKnown(z, second)
 	}
-	if rc, ok := m.metric.(distance.RowChecker); ok {
-		if err := rc.CheckRow(z); err != nil {
-			return -1, 0, fmt.Errorf("%w: %w", ErrMetric, err)
-		}
-	}
-	best, bestLoss := 0, math.Inf(1)
-	for j := range m.k {
-		if l := m.metric.Loss(z, m.centers[j*m.d:(j+1)*m.d]); l < bestLoss {
-			best, bestLoss = j, l
-		}
-	}
-	return best, m.metric.Distance(z, m.centers[best*m.d:(best+1)*m.d]), nil
+	return m.locateOther(z, second)
 }
 
-func (m *Model) check(x []float64) error {
-	if m == nil || m.k == 0 {
-		return fmt.Errorf("%w: model has no centers", ErrModel)
-	}
-	if len(x) != m.d {
-		return fmt.Errorf("%w: row has %d values, model has %d features", ErrDimension, len(x), m.d)
-	}
+// checkFinite1 returns an error wrapping ErrNotFinite naming the first NaN
+// or ±Inf of x.
+func checkFinite1(x []float64, where string) error {
 	for j, v := range x {
 		if math.IsNaN(v) || math.IsInf(v, 0) {
-			return fmt.Errorf("%w: feature %d is %v", ErrNotFinite, j, v)
+			return fmt.Errorf("%w: feature %d is %v%s", ErrNotFinite, j, v, where)
 		}
 	}
 	return nil
 }
 
-// nearestKnown is Nearest in the clustering space for the built-in metrics,
-// computing exactly the losses that Cluster used.
-func (m *Model) nearestKnown(z []float64) (int, float64, error) {
-	d := m.d
-	best, bestLoss := 0, math.Inf(1)
-	switch m.kind {
-	case euclidean:
-		for j := range m.k {
-			if l := distance.SqEuclidean(z, m.centers[j*d:(j+1)*d]); l < bestLoss {
-				best, bestLoss = j, l
+// locateKnown scales x into z (affine or none), checks it and searches.
+// z is a stack buffer of the caller: nothing here may let it escape.
+func (m *Model) locateKnown(z, x []float64, second bool) (int, float64, float64, error) {
+	x = x[:len(z)]
+	if m.shift != nil {
+		shift, div := m.shift[:len(z)], m.div[:len(z)]
+		for j, v := range x {
+			s := (v - shift[j]) / div[j]
+			if s-s != 0 { // NaN or ±Inf
+				return -1, 0, 0, notFinite(x, j, s)
 			}
+			z[j] = s
 		}
-		return best, math.Sqrt(bestLoss), nil
-	case manhattan:
-		for j := range m.k {
-			if l := (distance.Manhattan{}).Distance(z, m.centers[j*d:(j+1)*d]); l < bestLoss {
-				best, bestLoss = j, l
+	} else {
+		for j, v := range x {
+			if v-v != 0 {
+				return -1, 0, 0, notFinite(x, j, v)
 			}
+			z[j] = v
 		}
-		return best, bestLoss, nil
-	default: // cosine
-		zero := true
-		for _, v := range z {
-			if v != 0 {
-				zero = false
-				break
-			}
-		}
-		if zero {
-			return -1, 0, fmt.Errorf("%w: %w under cosine", ErrMetric, distance.ErrZeroVector)
-		}
-		for j := range m.k {
-			if l := (distance.Cosine{}).Distance(z, m.centers[j*d:(j+1)*d]); l < bestLoss {
-				best, bestLoss = j, l
-			}
-		}
-		return best, bestLoss, nil
 	}
+	return m.searchKnown(z, second)
+}
+
+// notFinite reports the non-finite value s of column j of x (or of its
+// scaled form).
+func notFinite(x []float64, j int, s float64) error {
+	if v := x[j]; math.IsNaN(v) || math.IsInf(v, 0) {
+		return fmt.Errorf("%w: feature %d is %v", ErrNotFinite, j, v)
+	}
+	return fmt.Errorf("%w: feature %d is %v after scaling", ErrNotFinite, j, s)
+}
+
+// searchKnown finds the nearest (and second-nearest) center of the scaled
+// row z under a built-in metric, computing exactly the losses that Cluster
+// used.
+func (m *Model) searchKnown(z []float64, second bool) (int, float64, float64, error) {
+	var best int
+	var bestLoss, secondLoss float64
+	switch m.kind {
+	case cosine:
+		if (distance.Cosine{}).CheckRow(z) != nil {
+			return -1, 0, 0, fmt.Errorf("%w: %w under cosine", ErrMetric, distance.ErrZeroVector)
+		}
+		best, bestLoss, secondLoss = 0, math.Inf(1), math.Inf(1)
+		d := m.d
+		for j := range m.k {
+			l := (distance.Cosine{}).Distance(z, m.centers[j*d:(j+1)*d])
+			if l < bestLoss {
+				best, bestLoss, secondLoss = j, l, bestLoss
+			} else if l < secondLoss {
+				secondLoss = l
+			}
+		}
+	default:
+		best, bestLoss, secondLoss = m.searchBounded(z, second)
+	}
+	if math.IsInf(bestLoss, 1) {
+		return -1, 0, 0, fmt.Errorf("%w: the distance to every center overflows", ErrNotFinite)
+	}
+	return best, bestLoss, secondLoss, nil
+}
+
+// locateOther serves a metric that is not built in, through its methods.
+func (m *Model) locateOther(z []float64, second bool) (int, float64, float64, error) {
+	if rc, ok := m.metric.(distance.RowChecker); ok {
+		if err := rc.CheckRow(z); err != nil {
+			return -1, 0, 0, fmt.Errorf("%w: %w", ErrMetric, err)
+		}
+	}
+	d := m.d
+	best, bestLoss, runner, runnerLoss := 0, math.Inf(1), -1, math.Inf(1)
+	for j := range m.k {
+		l := m.metric.Loss(z, m.centers[j*d:(j+1)*d])
+		if l < bestLoss {
+			best, bestLoss, runner, runnerLoss = j, l, best, bestLoss
+		} else if l < runnerLoss {
+			runner, runnerLoss = j, l
+		}
+	}
+	if math.IsInf(bestLoss, 1) {
+		return -1, 0, 0, fmt.Errorf("%w: the distance to every center overflows", ErrNotFinite)
+	}
+	secondDist := math.Inf(1)
+	if second && runner >= 0 && !math.IsInf(runnerLoss, 1) {
+		secondDist = m.metric.Distance(z, m.centers[runner*d:(runner+1)*d])
+	}
+	return best, m.metric.Distance(z, m.centers[best*d:(best+1)*d]), secondDist, nil
 }
 
 // NearestBatch labels every row of the raw matrix X into dst (len = rows of
 // X) and, if dist is not nil, writes each row's distance into dist. It
 // returns an error naming the first bad row; dst is then only partly
-// written.
+// written. It allocates nothing for a mat.RawMatrixer such as *mat.Dense.
 func (m *Model) NearestBatch(dst []int, dist []float64, X mat.Matrix) error {
-	if m == nil || m.k == 0 {
-		return fmt.Errorf("%w: model has no centers", ErrModel)
+	n, err := m.checkBatch(X, len(dst), dist != nil, len(dist))
+	if err != nil {
+		return err
 	}
-	if X == nil {
-		return fmt.Errorf("%w: nil matrix", ErrDimension)
-	}
-	n, d := X.Dims()
-	if d != m.d {
-		return fmt.Errorf("%w: matrix has %d columns, model has %d features", ErrDimension, d, m.d)
-	}
-	if len(dst) != n || (dist != nil && len(dist) != n) {
-		return fmt.Errorf("%w: %d rows but len(dst) = %d, len(dist) = %d", ErrDimension, n, len(dst), len(dist))
-	}
-	var raw blas64.General
-	rm, fast := X.(mat.RawMatrixer)
-	if fast {
-		raw = rm.RawMatrix()
-	}
-	row := make([]float64, d)
-	for i := range n {
-		if fast {
-			row = raw.Data[i*raw.Stride : i*raw.Stride+d]
-		} else {
-			mat.Row(row, i, X)
-		}
+	return m.eachRow(X, n, func(i int, row []float64) error {
 		c, dd, err := m.Nearest(row)
 		if err != nil {
-			return fmt.Errorf("row %d: %w", i, err)
+			return err
 		}
 		dst[i] = c
 		if dist != nil {
 			dist[i] = dd
+		}
+		return nil
+	})
+}
+
+// AssignBatch writes the Assignment of every row of the raw matrix X into
+// dst (len = rows of X). It returns an error naming the first bad row; dst
+// is then only partly written. It allocates nothing for a mat.RawMatrixer
+// such as *mat.Dense.
+func (m *Model) AssignBatch(dst []Assignment, X mat.Matrix) error {
+	n, err := m.checkBatch(X, len(dst), false, 0)
+	if err != nil {
+		return err
+	}
+	return m.eachRow(X, n, func(i int, row []float64) error {
+		a, err := m.Assign(row)
+		dst[i] = a
+		return err
+	})
+}
+
+// checkBatch checks the shapes of a batch call and returns the row count.
+func (m *Model) checkBatch(X mat.Matrix, lenDst int, hasDist bool, lenDist int) (int, error) {
+	if m == nil || m.k == 0 {
+		return 0, fmt.Errorf("%w: model has no centers", ErrModel)
+	}
+	if X == nil {
+		return 0, fmt.Errorf("%w: nil matrix", ErrDimension)
+	}
+	if d, ok := X.(*mat.Dense); ok && d == nil {
+		return 0, fmt.Errorf("%w: nil *mat.Dense", ErrDimension)
+	}
+	n, d := X.Dims()
+	if d != m.d {
+		return 0, fmt.Errorf("%w: matrix has %d columns, model has %d features", ErrDimension, d, m.d)
+	}
+	if lenDst != n || (hasDist && lenDist != n) {
+		return 0, fmt.Errorf("%w: %d rows but len(dst) = %d, len(dist) = %d", ErrDimension, n, lenDst, lenDist)
+	}
+	return n, nil
+}
+
+// eachRow calls fn with every row of X in order, reading a mat.RawMatrixer
+// in place, and stops at the first error, which it returns naming the row.
+func (m *Model) eachRow(X mat.Matrix, n int, fn func(i int, row []float64) error) error {
+	var raw blas64.General
+	rm, fast := X.(mat.RawMatrixer)
+	var row []float64
+	if fast {
+		raw = rm.RawMatrix()
+	} else {
+		row = make([]float64, m.d)
+	}
+	for i := range n {
+		if fast {
+			row = raw.Data[i*raw.Stride : i*raw.Stride+m.d]
+		} else {
+			mat.Row(row, i, X)
+		}
+		if err := fn(i, row); err != nil {
+			return fmt.Errorf("row %d: %w", i, err)
 		}
 	}
 	return nil
@@ -249,7 +403,13 @@ func (m *Model) NearestBatch(dst []int, dist []float64, X mat.Matrix) error {
 // Distances writes the distance from the raw row x to every center, in the
 // clustering space, into dst (len K; nil allocates) and returns it.
 func (m *Model) Distances(dst, x []float64) ([]float64, error) {
-	if err := m.check(x); err != nil {
+	if m == nil || m.k == 0 {
+		return nil, fmt.Errorf("%w: model has no centers", ErrModel)
+	}
+	if len(x) != m.d {
+		return nil, fmt.Errorf("%w: row has %d values, model has %d features", ErrDimension, len(x), m.d)
+	}
+	if err := checkFinite1(x, ""); err != nil {
 		return nil, err
 	}
 	if dst == nil {
@@ -275,94 +435,311 @@ func (m *Model) Distances(dst, x []float64) ([]float64, error) {
 	return dst, nil
 }
 
-// Model documents: format name and versions this package reads.
+// searchIndex speeds up the exact nearest-center search under Euclidean and
+// Manhattan, both of which satisfy the triangle inequality:
+//
+//   - Centers are visited in order of their projection on one direction u
+//     (the principal axis of the centers), starting next to the row's own
+//     projection q, so a near center is usually met first. Since
+//     |q − c·u| ≤ ‖x − c‖₂ ≤ ‖x − c‖₁ for a unit u, the visit stops once
+//     the projection gap exceeds the distance to beat.
+//   - A center j is skipped when ‖c_best − c_j‖ > D_best + D_beat, where
+//     D_beat is the distance to beat (the best, or the runner-up when the
+//     margin is wanted): then ‖x − c_j‖ > D_beat by the triangle
+//     inequality.
+//   - A distance being summed is abandoned once its partial sum exceeds the
+//     loss to beat; partial sums of non-negative terms never decrease under
+//     rounding, so the full sum would exceed it too.
+//
+// Every bound carries a relative margin (boundSlack) far above the rounding
+// error of the quantities involved, so a center is only skipped when its
+// computed loss would be strictly larger than the loss to beat: the result
+// is bit-identical to a full scan, ties included.
+type searchIndex struct {
+	dir   []float64 // direction u, unit length
+	proj  []float64 // center projections c_j·u, ascending
+	err   []float64 // rounding bound of each proj entry
+	order []int     // center index of proj[i]
+	cc    []float64 // k×k distances between centers; nil if not kept
+	tol   float64   // relative rounding bound of a projection
+}
+
 const (
-	modelFormat  = "centroid/kmeans-model"
-	ModelVersion = 1 // version written by MarshalJSON
+	// boundSlack is the relative margin of every skip test.
+	boundSlack = 1e-9
+	// minBound is the smallest distance to beat for which the skip tests
+	// run; below it rounding near underflow is not worth reasoning about.
+	minBound = 0x1p-400
+	// maxIndexK is the largest k for which center-to-center distances are
+	// kept (k² values).
+	maxIndexK = 256
+	// minIndexK is the smallest k for which the index pays off.
+	minIndexK = 4
 )
 
-type modelDoc struct {
-	Format  string          `json:"format"`
-	Version int             `json:"version"`
-	Metric  string          `json:"metric"`
-	K       int             `json:"k"`
-	Dim     int             `json:"dim"`
-	Centers [][]float64     `json:"centers"`
-	Scaler  json.RawMessage `json:"scaler"`
+// newSearchIndex builds the index of k centers of dimension d, or returns
+// nil if it would not help or cannot be trusted (non-finite projections).
+func newSearchIndex(centers []float64, k, d int, kind metricKind) *searchIndex {
+	if k < minIndexK {
+		return nil
+	}
+	ix := &searchIndex{dir: principalAxis(centers, k, d), tol: 4 * float64(d+4) * 0x1p-53}
+	type entry struct {
+		p, e float64
+		j    int
+	}
+	entries := make([]entry, k)
+	for j := range k {
+		p, a := ix.project(centers[j*d : (j+1)*d])
+		if math.IsNaN(p) || math.IsInf(p, 0) || math.IsInf(a, 0) {
+			return nil
+		}
+		entries[j] = entry{p, ix.tol*a + 0x1p-1000*float64(d+1), j}
+	}
+	// Insertion sort keeps equal projections in index order (k is small).
+	for i := 1; i < k; i++ {
+		for j := i; j > 0 && entries[j].p < entries[j-1].p; j-- {
+			entries[j], entries[j-1] = entries[j-1], entries[j]
+		}
+	}
+	for _, e := range entries {
+		ix.proj = append(ix.proj, e.p)
+		ix.err = append(ix.err, e.e)
+		ix.order = append(ix.order, e.j)
+	}
+	if k <= maxIndexK {
+		ix.cc = make([]float64, k*k)
+		for i := range k {
+			for j := range i {
+				var v float64
+				if kind == euclidean {
+					v = math.Sqrt(distance.SqEuclidean(centers[i*d:(i+1)*d], centers[j*d:(j+1)*d]))
+				} else {
+					v = distance.Manhattan{}.Distance(centers[i*d:(i+1)*d], centers[j*d:(j+1)*d])
+				}
+				if math.IsInf(v, 0) || math.IsNaN(v) {
+					ix.cc = nil
+					return ix
+				}
+				ix.cc[i*k+j], ix.cc[j*k+i] = v, v
+			}
+		}
+	}
+	return ix
 }
 
-// MarshalJSON encodes the model as a versioned document: format name,
-// version, metric name, k, dim, the centers in the clustering space (exact)
-// and the learned scaler (null if none).
-func (m *Model) MarshalJSON() ([]byte, error) {
-	if m == nil || m.k == 0 {
-		return nil, fmt.Errorf("%w: model has no centers", ErrModel)
+// project returns z·u and Σ|z_i·u_i|.
+func (ix *searchIndex) project(z []float64) (p, abs float64) {
+	u := ix.dir[:len(z)]
+	var p0, p1, a0, a1 float64
+	i := 0
+	for ; i+1 < len(z); i += 2 {
+		t0, t1 := z[i]*u[i], z[i+1]*u[i+1]
+		p0 += t0
+		p1 += t1
+		a0 += math.Abs(t0)
+		a1 += math.Abs(t1)
 	}
-	doc := modelDoc{Format: modelFormat, Version: ModelVersion, Metric: m.metric.Name(), K: m.k, Dim: m.d}
-	for j := range m.k {
-		doc.Centers = append(doc.Centers, m.centers[j*m.d:(j+1)*m.d])
+	if i < len(z) {
+		t := z[i] * u[i]
+		p0 += t
+		a0 += math.Abs(t)
 	}
-	sc, err := scale.Encode(m.scaler)
-	if err != nil {
-		return nil, fmt.Errorf("%w: %w", ErrModel, err)
-	}
-	doc.Scaler = sc
-	return json.Marshal(doc)
+	return p0 + p1, a0 + a1
 }
 
-// UnmarshalJSON decodes a document written by MarshalJSON, checking
-// everything: format and version, known metric with a center rule, k and
-// dim against the centers, finite values (unit-length centers under
-// Cosine), and a valid scaler of the same dimension. Any problem returns an
-// error wrapping ErrModel and leaves m unchanged. Do not decode into a Model
-// that other goroutines are using.
-func (m *Model) UnmarshalJSON(b []byte) error {
-	var doc modelDoc
-	dec := json.NewDecoder(bytes.NewReader(b))
-	dec.DisallowUnknownFields()
-	if err := dec.Decode(&doc); err != nil {
-		return fmt.Errorf("%w: %w", ErrModel, err)
-	}
-	if dec.More() {
-		return fmt.Errorf("%w: trailing data after the document", ErrModel)
-	}
-	if doc.Format != modelFormat {
-		return fmt.Errorf("%w: format %q, want %q", ErrModel, doc.Format, modelFormat)
-	}
-	if doc.Version != ModelVersion {
-		return fmt.Errorf("%w: unknown version %d (this build reads %d)", ErrModel, doc.Version, ModelVersion)
-	}
-	metric, err := distance.ByName(doc.Metric)
-	if err != nil {
-		return fmt.Errorf("%w: %w", ErrModel, err)
-	}
-	obj, ok := metric.(distance.Objective)
-	if !ok {
-		return fmt.Errorf("%w: metric %q has no center rule", ErrModel, doc.Metric)
-	}
-	if doc.K < 1 || doc.Dim < 1 || len(doc.Centers) != doc.K {
-		return fmt.Errorf("%w: k = %d, dim = %d with %d centers", ErrModel, doc.K, doc.Dim, len(doc.Centers))
-	}
-	centers := make([]float64, 0, doc.K*doc.Dim)
-	for j, c := range doc.Centers {
-		if len(c) != doc.Dim {
-			return fmt.Errorf("%w: center %d has %d values, want %d", ErrModel, j, len(c), doc.Dim)
-		}
-		if err := distance.CheckRow(obj, c); err != nil {
-			return fmt.Errorf("%w: center %d: %w", ErrModel, j, err)
-		}
-		centers = append(centers, c...)
-	}
-	var sc scale.Scaler
-	if len(doc.Scaler) > 0 {
-		sc, err = scale.Decode(doc.Scaler)
-		if err != nil {
-			return fmt.Errorf("%w: %w", ErrModel, err)
-		}
-		if sc != nil && sc.Dim() != doc.Dim {
-			return fmt.Errorf("%w: scaler has %d columns, model has %d", ErrModel, sc.Dim(), doc.Dim)
+// principalAxis returns a unit vector along the direction of largest spread
+// of the centers (power iteration from a fixed start, so it is
+// deterministic), or the first axis if the centers do not spread.
+func principalAxis(centers []float64, k, d int) []float64 {
+	mean := make([]float64, d)
+	for j := range k {
+		for i, v := range centers[j*d : (j+1)*d] {
+			mean[i] += v / float64(k)
 		}
 	}
-	*m = *newModel(centers, doc.K, doc.Dim, obj, sc)
-	return nil
+	v := make([]float64, d)
+	for i := range v {
+		v[i] = 1 + float64(i)/float64(d)
+	}
+	t := make([]float64, k)
+	for range 40 {
+		for j := range k {
+			var s float64
+			for i, c := range centers[j*d : (j+1)*d] {
+				s += (c - mean[i]) * v[i]
+			}
+			t[j] = s
+		}
+		clear(v)
+		for j := range k {
+			for i, c := range centers[j*d : (j+1)*d] {
+				v[i] += (c - mean[i]) * t[j]
+			}
+		}
+		var norm float64
+		for _, x := range v {
+			norm = math.Hypot(norm, x)
+		}
+		if !(norm > 0) || math.IsInf(norm, 0) {
+			clear(v)
+			v[0] = 1
+			return v
+		}
+		for i := range v {
+			v[i] /= norm
+		}
+	}
+	return v
+}
+
+// sqEuclideanBelow returns distance.SqEuclidean(z, c), computed with the
+// same operations in the same order, or +Inf as soon as a partial sum
+// exceeds lim.
+func sqEuclideanBelow(z, c []float64, lim float64) float64 {
+	c = c[:len(z)]
+	var s0, s1 float64
+	i := 0
+	for ; i+3 < len(z); i += 4 {
+		d0 := z[i] - c[i]
+		d1 := z[i+1] - c[i+1]
+		s0 += d0 * d0
+		s1 += d1 * d1
+		d0 = z[i+2] - c[i+2]
+		d1 = z[i+3] - c[i+3]
+		s0 += d0 * d0
+		s1 += d1 * d1
+		if s0+s1 > lim {
+			return math.Inf(1)
+		}
+	}
+	for ; i+1 < len(z); i += 2 {
+		d0 := z[i] - c[i]
+		d1 := z[i+1] - c[i+1]
+		s0 += d0 * d0
+		s1 += d1 * d1
+	}
+	if i < len(z) {
+		d := z[i] - c[i]
+		s0 += d * d
+	}
+	return s0 + s1
+}
+
+// manhattanBelow returns distance.Manhattan{}.Distance(z, c), computed with
+// the same operations in the same order, or +Inf as soon as a partial sum
+// exceeds lim.
+func manhattanBelow(z, c []float64, lim float64) float64 {
+	c = c[:len(z)]
+	var s float64
+	for i, v := range z {
+		s += math.Abs(v - c[i])
+		if i&3 == 3 && s > lim {
+			return math.Inf(1)
+		}
+	}
+	return s
+}
+
+// searchBounded returns the nearest center of z under Euclidean or
+// Manhattan, its loss and, if second, the runner-up's loss (+Inf when there
+// is none; when !second the third value is meaningless).
+func (m *Model) searchBounded(z []float64, second bool) (int, float64, float64) {
+	k, d := m.k, m.d
+	euclid := m.kind == euclidean
+	best, bestLoss, secondLoss := -1, math.Inf(1), math.Inf(1)
+	lim := math.Inf(1) // loss to beat
+	// consider measures center j and updates the state.
+	consider := func(j int) {
+		var l float64
+		if euclid {
+			l = sqEuclideanBelow(z, m.centers[j*d:(j+1)*d], lim)
+		} else {
+			l = manhattanBelow(z, m.centers[j*d:(j+1)*d], lim)
+		}
+		switch {
+		case l < bestLoss || (l == bestLoss && j < best):
+			best, bestLoss, secondLoss = j, l, bestLoss
+		case l < secondLoss:
+			secondLoss = l
+		default:
+			return
+		}
+		if second {
+			lim = secondLoss
+		} else {
+			lim = bestLoss
+		}
+	}
+	ix := m.index
+	if ix == nil {
+		for j := range k {
+			consider(j)
+		}
+		return best, bestLoss, secondLoss
+	}
+	q, qa := ix.project(z)
+	qerr := ix.tol*qa + 0x1p-1000*float64(d+1)
+	// First projection ≥ q: counted for small k (no mispredicted
+	// branches), by bisection otherwise.
+	lo := 0
+	if k <= 64 {
+		for _, p := range ix.proj {
+			lo += b2i(p < q)
+		}
+	} else {
+		hi := k
+		for lo < hi {
+			mid := int(uint(lo+hi) >> 1)
+			if ix.proj[mid] < q {
+				lo = mid + 1
+			} else {
+				hi = mid
+			}
+		}
+	}
+	left, right := lo-1, lo
+	beat, skip := math.Inf(1), math.Inf(1) // distance to beat; skip threshold on cc
+	var row []float64                      // cc row of the current best
+	for left >= 0 || right < k {
+		var pos int
+		var gap float64
+		if right >= k || (left >= 0 && q-ix.proj[left] <= ix.proj[right]-q) {
+			pos, gap = left, q-ix.proj[left]
+			left--
+		} else {
+			pos, gap = right, ix.proj[right]-q
+			right++
+		}
+		if gap-qerr-ix.err[pos] > beat {
+			break // this and every later center is farther than beat
+		}
+		j := ix.order[pos]
+		if row != nil && row[j] > skip {
+			continue
+		}
+		prevBest, prevLim := best, lim
+		consider(j)
+		if lim == prevLim && best == prevBest {
+			continue
+		}
+		// Refresh the thresholds from the new best / limit.
+		beat, skip = math.Inf(1), math.Inf(1)
+		if dl := m.lossToDistance(lim); dl >= minBound && !math.IsInf(dl, 1) {
+			beat = dl * (1 + boundSlack)
+			if ix.cc != nil {
+				skip = (m.lossToDistance(bestLoss) + dl) * (1 + boundSlack)
+				row = ix.cc[best*k : (best+1)*k]
+			}
+		}
+	}
+	return best, bestLoss, secondLoss
+}
+
+// b2i returns 1 for true and 0 for false.
+func b2i(b bool) int {
+	if b {
+		return 1
+	}
+	return 0
 }

@@ -33,6 +33,11 @@ type Problem struct {
 	// every row before clustering; the Model applies it to new rows. Nil
 	// means the raw data is the clustering space.
 	Scaler scale.Scaler
+	// Features, if not nil, names the d columns of Data; the Model carries
+	// them as its schema (see Model.WithFeatures and Model.AssignRecord).
+	// Names must be non-empty and distinct, else Cluster returns an error
+	// wrapping ErrSchema.
+	Features []string
 }
 
 // Default values used for zero fields of Settings.
