@@ -55,7 +55,19 @@
 // # Encoding
 //
 // A Model encodes to a versioned JSON document with encoding/json
-// (MarshalJSON/UnmarshalJSON). Decoding checks the format name, the
-// version, the metric, the shapes, that every value is finite and the
-// scaler; unknown versions are rejected.
+// (MarshalJSON/UnmarshalJSON) or ReadModel, which also enforces size
+// limits (DecodeLimits). Version 2, the one written, carries a SHA-256
+// checksum over its canonical encoding, the feature names, the scaler, the
+// metric, k, d, the creation time, the library version and a training
+// summary; version 1 documents stay readable. Decoding checks the format
+// name, the version, the checksum, the metric, the shapes, that every value
+// is finite and the scaler; any failure wraps ErrModel.
+//
+// # Serving
+//
+// Holder keeps the model a service answers with behind an atomic pointer:
+// reads never lock and never see a half-loaded model, and Swap validates a
+// model before publishing it. Drift counts assignments on sharded atomic
+// counters and compares the cluster shares and far-from-center rows with
+// the training summary.
 package kmeans
