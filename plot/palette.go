@@ -41,9 +41,8 @@ func clusterGlyph(j int) draw.GlyphDrawer {
 
 // Neutral colours for axes decorations and reference lines.
 var (
-	grey      = color.NRGBA{0x80, 0x80, 0x80, 0xFF}
-	lightGrey = color.NRGBA{0xC8, 0xC8, 0xC8, 0xFF}
-	black     = color.NRGBA{0, 0, 0, 0xFF}
+	grey  = color.NRGBA{0x80, 0x80, 0x80, 0xFF}
+	black = color.NRGBA{0, 0, 0, 0xFF}
 )
 
 func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }

@@ -256,6 +256,7 @@ func TestModelEndpoints(t *testing.T) {
 			resp, b = do(t, c, "GET", ts.URL+"/v1/model", "", nil)
 			require.Equal(t, http.StatusOK, resp.StatusCode)
 			assert.Equal(t, `"`+first+`"`, resp.Header.Get("ETag"))
+			assert.Contains(t, string(b), first, "the document served is the old model's")
 		})
 	}
 
