@@ -3,6 +3,8 @@ package kmeans
 import (
 	"math"
 	"sync/atomic"
+
+	"github.com/centroidlab/centroid/distance"
 )
 
 // Method is a k-means solver. The driver (Cluster) owns seeding, restarts,
@@ -49,8 +51,9 @@ type Step struct {
 	// Cost. Without it the Pass may leave Cost at zero.
 	NeedCost bool
 	// Moved counts rows whose cluster changed; Distances counts distance
-	// (or loss) evaluations between a row and a center. Add to them
-	// atomically.
+	// (or loss) evaluations between a row and a center, a dot product of
+	// the blocked kernel counting as one. Center–center distances are not
+	// counted. Add to them atomically.
 	Moved     atomic.Int64
 	Distances atomic.Int64
 }
@@ -58,13 +61,26 @@ type Step struct {
 // Lloyd is the standard k-means iteration (S. P. Lloyd, "Least squares
 // quantization in PCM", IEEE Trans. Information Theory 28(2), 1982): every
 // pass computes the loss of every row against every center. It works with
-// every distance.Objective. Extra memory: none beyond the driver's.
+// every distance.Objective.
+//
+// Under Euclidean the pass runs the blocked kernel of internal/nearest
+// (‖c‖² − 2x·c on shifted rows, argmin fused, rows with a near-tie
+// recomputed by the direct loss), which gives exactly the assignments of
+// the direct computation; other metrics compute Metric.Loss directly. Extra memory:
+// the packed centers (k·d) and, per worker, one tile of shifted rows
+// (at most 64 KiB or 16 rows).
 type Lloyd struct{}
 
 var _ Method = Lloyd{}
 
-// Start returns Lloyd's per-restart state (it keeps none).
-func (Lloyd) Start(sp *Space, k int) (Pass, error) { return lloydPass{sp: sp, k: k}, nil }
+// Start returns Lloyd's per-restart state (packed centers and scratch
+// under Euclidean, nothing otherwise).
+func (Lloyd) Start(sp *Space, k int) (Pass, error) {
+	if _, ok := sp.Metric.(distance.Euclidean); ok {
+		return &lloydKernel{sp: sp, k: k}, nil
+	}
+	return lloydPass{sp: sp, k: k}, nil
+}
 
 type lloydPass struct {
 	sp *Space

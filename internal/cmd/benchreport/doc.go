@@ -1,0 +1,22 @@
+// Command benchreport measures centroid's k-means solvers and its
+// assignment kernel and prints Markdown tables for BENCHMARKS.md.
+//
+// For every shared dataset and every cell of the grid (n rows, d
+// dimensions, k clusters, on seeded blobs from internal/synth) it runs
+// kmeans.Cluster once per solver with one restart, seed 1 and the same pass
+// limit, and prints the wall time and the row–center distance evaluations
+// of each solver relative to Lloyd (in brackets: the time ratio after
+// subtracting the k-means++ seeding time, measured alone), plus the solver
+// the automatic choice picked and its time relative to the fastest. It then
+// times the assignment kernel of internal/nearest, gonum's blas64 Dgemm and
+// a naive triple loop on the same rows×d×k shape (1 and 2 threads), and
+// every solver with 1 and 2 workers on the cells the -workers flags select.
+//
+//	go run ./internal/cmd/benchreport -n 1e4,1e5 -d 2,16,64,256 -k 8,64,256 -iters 30 -reps 1
+//
+// Every solver is exact, so all of them run the same passes (the command
+// stops if a solver's passes or cost differ from Lloyd's); wall times
+// include k-means++ seeding, which is serial and costs several Lloyd
+// passes. Run it on an otherwise idle machine: other load distorts both the
+// times and the 1-vs-2-thread ratios.
+package main

@@ -1,0 +1,341 @@
+package main
+
+import (
+	"context"
+	"flag"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"os"
+	"runtime"
+	"strconv"
+	"strings"
+	"sync"
+	"time"
+
+	"github.com/centroidlab/centroid/distance"
+	"github.com/centroidlab/centroid/internal/dataset"
+	"github.com/centroidlab/centroid/internal/nearest"
+	"github.com/centroidlab/centroid/internal/synth"
+	"github.com/centroidlab/centroid/kmeans"
+	"github.com/centroidlab/centroid/seeding"
+	"gonum.org/v1/gonum/blas"
+	"gonum.org/v1/gonum/blas/blas64"
+	"gonum.org/v1/gonum/mat"
+)
+
+func main() {
+	var (
+		ns      = flag.String("n", "1e4,1e5", "rows of the grid, comma separated (1e4 = 10000)")
+		ds      = flag.String("d", "2,16,64,256", "dimensions of the grid")
+		ks      = flag.String("k", "8,64,256", "clusters of the grid")
+		iters   = flag.Int("iters", 30, "pass limit of every run (solvers are exact: all run the same passes)")
+		reps    = flag.Int("reps", 1, "repetitions per measurement; the fastest counts")
+		rows    = flag.Int("rows", 1<<15, "rows of the kernel/Dgemm/naive rate measurement (at most n)")
+		naive   = flag.Int("naive-rows", 4096, "rows of the naive triple loop (at most -rows)")
+		workers = flag.String("workers-n", "1e5", "smallest n at which 1 and 2 workers are compared")
+		wd      = flag.String("workers-d", "2,16", "dimensions at which 1 and 2 workers are compared")
+		wk      = flag.String("workers-k", "8,64,256", "clusters at which 1 and 2 workers are compared")
+		sets    = flag.String("sets", "s1,s2,s3,s4,a1,a2,a3,unbalance,letter", "shared datasets to run (empty: none)")
+		maxCost = flag.Float64("max-gflop", 2000, "skip grid cells whose Lloyd run would exceed this many GFLOP (2·n·d·k·iters)")
+	)
+	flag.Parse()
+	cfg := config{iters: *iters, reps: max(1, *reps), rows: *rows, naiveRows: *naive, workersN: parseInts(*workers)[0], maxGFLOP: *maxCost,
+		workersD: set(parseInts(*wd)), workersK: set(parseInts(*wk))}
+	fmt.Printf("# benchreport\n\n%s, GOMAXPROCS %d, %s\n\n", runtime.Version(), runtime.GOMAXPROCS(0), cpuName())
+	fmt.Printf("flags: %s\n\n", strings.Join(os.Args[1:], " "))
+	if *sets != "" {
+		cfg.datasets(strings.Split(*sets, ","))
+	}
+	cfg.grid(parseInts(*ns), parseInts(*ds), parseInts(*ks))
+}
+
+type config struct {
+	iters, reps, rows, naiveRows, workersN int
+	maxGFLOP                               float64
+	workersD, workersK                     map[int]bool
+}
+
+func set(v []int) map[int]bool {
+	m := map[int]bool{}
+	for _, x := range v {
+		m[x] = true
+	}
+	return m
+}
+
+var methods = []kmeans.Method{kmeans.Lloyd{}, kmeans.Elkan{}, kmeans.Hamerly{}, kmeans.Yinyang{}}
+
+func name(m kmeans.Method) string {
+	if m == nil {
+		return "auto"
+	}
+	s := fmt.Sprintf("%T", m)
+	return s[strings.LastIndexByte(s, '.')+1:]
+}
+
+// run is the fastest of reps calls of Cluster.
+type run struct {
+	secs   float64
+	res    *kmeans.Result
+	method string
+}
+
+func (c config) cluster(x *mat.Dense, k, iters, workers int, m kmeans.Method) run {
+	best := run{secs: math.Inf(1)}
+	for range c.reps {
+		start := time.Now()
+		res, err := kmeans.Cluster(context.Background(), kmeans.Problem{Data: x, K: k},
+			&kmeans.Settings{Restarts: 1, Seed: 1, MaxIterations: iters, Workers: workers}, m)
+		secs := time.Since(start).Seconds()
+		if err != nil {
+			fmt.Fprintln(os.Stderr, "benchreport:", err)
+			os.Exit(1)
+		}
+		if secs < best.secs {
+			best = run{secs: secs, res: res, method: res.Stats.Method}
+		}
+	}
+	return best
+}
+
+// seedSecs times k-means++ seeding alone (the fastest of reps).
+func (c config) seedSecs(x *mat.Dense, k int) float64 {
+	_, d := x.Dims()
+	best := math.Inf(1)
+	for range c.reps {
+		dst := mat.NewDense(k, d, nil)
+		start := time.Now()
+		if err := (seeding.PlusPlus{}).Seed(dst, x, nil, distance.Euclidean{}, rand.New(rand.NewPCG(1, 0))); err != nil {
+			fmt.Fprintln(os.Stderr, "benchreport:", err)
+			os.Exit(1)
+		}
+		best = math.Min(best, time.Since(start).Seconds())
+	}
+	return best
+}
+
+// solvers runs every solver (and the automatic choice, which replaces the
+// run of the solver it picks) on x and prints one table row.
+func (c config) solvers(label string, x *mat.Dense, k, iters int) map[string]run {
+	auto := c.cluster(x, k, iters, 0, nil)
+	runs := map[string]run{"auto": auto}
+	for _, m := range methods {
+		if name(m) == auto.method {
+			runs[name(m)] = auto
+			continue
+		}
+		runs[name(m)] = c.cluster(x, k, iters, 0, m)
+	}
+	lloyd := runs["Lloyd"]
+	fastest := lloyd
+	seed := c.seedSecs(x, k)
+	cells := []string{label, strconv.Itoa(lloyd.res.Iterations), ms(seed), ms(lloyd.secs)}
+	for _, m := range methods[1:] {
+		r := runs[name(m)]
+		if r.res.Iterations != lloyd.res.Iterations || r.res.Cost != lloyd.res.Cost {
+			fmt.Fprintf(os.Stderr, "benchreport: %s differs from Lloyd on %s\n", name(m), label)
+			os.Exit(1)
+		}
+		cells = append(cells, fmt.Sprintf("%.2f× (%.2f×) / %.1f×", lloyd.secs/r.secs, passes(lloyd.secs, seed)/passes(r.secs, seed),
+			float64(lloyd.res.Stats.Distances)/float64(r.res.Stats.Distances)))
+		if r.secs < fastest.secs {
+			fastest = r
+		}
+	}
+	cells = append(cells, fmt.Sprintf("%s %.2f", auto.method, auto.secs/fastest.secs))
+	fmt.Println("| " + strings.Join(cells, " | ") + " |")
+	return runs
+}
+
+const solverHeader = "| cell | passes | seeding ms | Lloyd ms | Elkan: time (passes only) / distances | Hamerly: time (passes only) / distances | Yinyang: time (passes only) / distances | auto: pick, time ÷ fastest |\n|---|---|---|---|---|---|---|---|"
+
+// passes returns the time of a run without seeding, at least 1% of it so
+// that noise cannot make it vanish.
+func passes(secs, seed float64) float64 { return math.Max(secs-seed, secs/100) }
+
+func (c config) datasets(names []string) {
+	fmt.Println("## Shared datasets (speed-up over Lloyd: wall time (wall time minus seeding) / distance evaluations)")
+	fmt.Println()
+	fmt.Printf("k = published number of classes; pass limit 300 (all runs converge).\n\n")
+	fmt.Println(solverHeader)
+	ks := map[string]int{"s1": 15, "s2": 15, "s3": 15, "s4": 15, "a1": 20, "a2": 35, "a3": 50, "unbalance": 8, "letter": 26, "iris": 3, "wine": 3, "seeds": 3}
+	for _, n := range names {
+		s, err := dataset.Load(n)
+		if err != nil {
+			fmt.Fprintln(os.Stderr, "benchreport: skipping", n+":", err)
+			continue
+		}
+		r, d := s.X.Dims()
+		c.solvers(fmt.Sprintf("%s (%d×%d, k=%d)", n, r, d, ks[n]), s.X, ks[n], 300)
+	}
+	fmt.Println()
+}
+
+func (c config) grid(ns, ds, ks []int) {
+	type cell struct{ n, d, k int }
+	var kern, work []cell
+	fmt.Println("## Grid: seeded blobs (speed-up over Lloyd: wall time (wall time minus seeding) / distance evaluations)")
+	fmt.Println()
+	fmt.Printf("Data: internal/synth.Blobs(n, d, %d, 1); one restart, seed 1, at most %d passes, 2 workers.\n\n", synth.GridClusters, c.iters)
+	fmt.Println(solverHeader)
+	for _, n := range ns {
+		for _, d := range ds {
+			var x *mat.Dense
+			for _, k := range ks {
+				if gf := 2 * float64(n) * float64(d) * float64(k) * float64(c.iters) / 1e9; gf > c.maxGFLOP {
+					fmt.Printf("| n=%s d=%d k=%d | skipped: Lloyd would need up to %.0f GFLOP (-max-gflop %.0f) |\n", exp(n), d, k, gf, c.maxGFLOP)
+					continue
+				}
+				if x == nil {
+					x = synth.Blobs(n, d, synth.GridClusters, 1)
+				}
+				c.solvers(fmt.Sprintf("n=%s d=%d k=%d", exp(n), d, k), x, k, c.iters)
+				kern = append(kern, cell{n, d, k})
+				if n >= c.workersN && c.workersD[d] && c.workersK[k] {
+					work = append(work, cell{n, d, k})
+				}
+			}
+			runtime.GC()
+		}
+	}
+	fmt.Println()
+	fmt.Println("## Assignment kernel vs gonum Dgemm vs naive loop (GFLOP/s, 2·rows·d·k flops)")
+	fmt.Println()
+	fmt.Printf("Rows: min(n, %d) (naive: min(n, %d)); centers: the first k rows. Kernel = nearest.Searcher.Assign (shift, dot products, fused argmin, rechecks) in tiles as Lloyd runs it; Dgemm = blas64.Gemm(NoTrans, Trans) writing the rows×k product; naive = i, j, t triple loop writing the rows×k product. Threads: GOMAXPROCS 1, then 2 (kernel: rows split in two goroutines).\n\n", c.rows, c.naiveRows)
+	fmt.Println("| d | k | kernel 1T | Dgemm 1T | naive 1T | kernel ÷ Dgemm 1T | kernel 2T | Dgemm 2T | kernel ÷ Dgemm 2T |\n|---|---|---|---|---|---|---|---|---|")
+	seen := map[[2]int]bool{}
+	for _, ce := range kern {
+		if seen[[2]int{ce.d, ce.k}] {
+			continue
+		}
+		seen[[2]int{ce.d, ce.k}] = true
+		c.kernelRow(ce.d, ce.k)
+	}
+	fmt.Println()
+	if len(work) == 0 {
+		return
+	}
+	fmt.Println("## Workers: wall time with 1 worker ÷ with 2 workers (in brackets: without the serial k-means++ seeding)")
+	fmt.Println()
+	fmt.Println("| cell | seeding ms | Lloyd | Elkan | Hamerly | Yinyang |\n|---|---|---|---|---|---|")
+	for _, ce := range work {
+		x := synth.Blobs(ce.n, ce.d, synth.GridClusters, 1)
+		seed := c.seedSecs(x, ce.k)
+		cells := []string{fmt.Sprintf("n=%s d=%d k=%d", exp(ce.n), ce.d, ce.k), ms(seed)}
+		for _, m := range methods {
+			one := c.cluster(x, ce.k, c.iters, 1, m)
+			two := c.cluster(x, ce.k, c.iters, 2, m)
+			cells = append(cells, fmt.Sprintf("%.2f× (%.2f×)", one.secs/two.secs, passes(one.secs, seed)/passes(two.secs, seed)))
+		}
+		fmt.Println("| " + strings.Join(cells, " | ") + " |")
+		runtime.GC()
+	}
+	fmt.Println()
+}
+
+// kernelRow times the kernel, Dgemm and the naive loop on one d×k shape.
+func (c config) kernelRow(d, k int) {
+	n := max(c.rows, k)
+	x := synth.Blobs(n, d, synth.GridClusters, 2).RawMatrix().Data
+	cs := x[:k*d]
+	flops := func(rows int) float64 { return 2 * float64(rows) * float64(d) * float64(k) }
+	var packed nearest.Centers
+	packed.Pack(cs, k, d, nil)
+	direct := func(i, j int) float64 { return distance.SqEuclidean(x[i*d:(i+1)*d], cs[j*d:(j+1)*d]) }
+	kernel := func(lo, hi int) {
+		var s nearest.Searcher
+		tile := min(256, max(16, (8192/d)&^3))
+		dst := make([]int, tile)
+		for t0 := lo; t0 < hi; t0 += tile {
+			t1 := min(hi, t0+tile)
+			s.Assign(dst, x[t0*d:t1*d], t1-t0, &packed, func(i, j int) float64 { return direct(t0+i, j) })
+		}
+	}
+	xs := blas64.General{Rows: n, Cols: d, Stride: d, Data: x}
+	cm := blas64.General{Rows: k, Cols: d, Stride: d, Data: cs}
+	out := blas64.General{Rows: n, Cols: k, Stride: k, Data: make([]float64, n*k)}
+	gemm := func() { blas64.Gemm(blas.NoTrans, blas.Trans, 1, xs, cm, 0, out) }
+	nr := min(n, c.naiveRows)
+	naive := func() {
+		for i := range nr {
+			xi := x[i*d : (i+1)*d]
+			for j := range k {
+				var s float64
+				for t := range d {
+					s += xi[t] * cs[j*d+t]
+				}
+				out.Data[i*k+j] = s
+			}
+		}
+	}
+	prev := runtime.GOMAXPROCS(1)
+	k1 := flops(n) / c.best(func() { kernel(0, n) })
+	g1 := flops(n) / c.best(gemm)
+	n1 := flops(nr) / c.best(naive)
+	runtime.GOMAXPROCS(2)
+	k2 := flops(n) / c.best(func() {
+		var wg sync.WaitGroup
+		wg.Go(func() { kernel(0, n/2) })
+		wg.Go(func() { kernel(n/2, n) })
+		wg.Wait()
+	})
+	g2 := flops(n) / c.best(gemm)
+	runtime.GOMAXPROCS(prev)
+	fmt.Printf("| %d | %d | %.2f | %.2f | %.2f | %.2f | %.2f | %.2f | %.2f |\n", d, k, k1/1e9, g1/1e9, n1/1e9, k1/g1, k2/1e9, g2/1e9, k2/g2)
+}
+
+// best returns the fastest of reps+1 timings of f in seconds (the first
+// call warms up caches).
+func (c config) best(f func()) float64 {
+	b := math.Inf(1)
+	for range c.reps + 1 {
+		start := time.Now()
+		f()
+		b = math.Min(b, time.Since(start).Seconds())
+	}
+	return b
+}
+
+func ms(s float64) string { return fmt.Sprintf("%.1f", s*1e3) }
+
+func exp(n int) string {
+	e := 0
+	m := n
+	for m >= 10 && m%10 == 0 {
+		m /= 10
+		e++
+	}
+	if m == 1 {
+		return fmt.Sprintf("1e%d", e)
+	}
+	return strconv.Itoa(n)
+}
+
+func parseInts(s string) []int {
+	var out []int
+	for _, f := range strings.Split(s, ",") {
+		v, err := strconv.ParseFloat(strings.TrimSpace(f), 64)
+		if err != nil || v < 1 {
+			fmt.Fprintf(os.Stderr, "benchreport: bad number %q\n", f)
+			os.Exit(2)
+		}
+		out = append(out, int(v))
+	}
+	return out
+}
+
+func cpuName() string {
+	b, err := os.ReadFile("/proc/cpuinfo")
+	if err != nil {
+		return runtime.GOARCH
+	}
+	for _, line := range strings.Split(string(b), "\n") {
+		if strings.HasPrefix(line, "model name") {
+			if i := strings.IndexByte(line, ':'); i >= 0 {
+				return strings.TrimSpace(line[i+1:])
+			}
+		}
+	}
+	return runtime.GOARCH
+}

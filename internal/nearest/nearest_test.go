@@ -1,0 +1,281 @@
+package nearest
+
+import (
+	"fmt"
+	"math"
+	"math/big"
+	"math/rand/v2"
+	"testing"
+
+	"github.com/stretchr/testify/assert"
+	"github.com/stretchr/testify/require"
+)
+
+// directSq is the reference: Σ(x_t−c_t)² in plain double precision, summed
+// in index order.
+func directSq(x, c []float64) float64 {
+	var s float64
+	for t, v := range x {
+		e := v - c[t]
+		s += e * e
+	}
+	return s
+}
+
+// exactSq is ‖x−c‖² in exact arithmetic (math/big with enough bits that
+// no operation rounds), rounded to float64 at the end.
+func exactSq(x, c []float64) *big.Float {
+	const prec = 4096
+	s := new(big.Float).SetPrec(prec)
+	for t, v := range x {
+		e := new(big.Float).SetPrec(prec).Sub(big.NewFloat(v).SetPrec(prec), big.NewFloat(c[t]).SetPrec(prec))
+		s.Add(s, e.Mul(e, e))
+	}
+	return s
+}
+
+// bruteArgmin is the first strict minimum of directSq over the centers.
+func bruteArgmin(x, cs []float64, k, d int) int {
+	best, bl := 0, math.Inf(1)
+	for j := range k {
+		if l := directSq(x, cs[j*d:(j+1)*d]); l < bl {
+			best, bl = j, l
+		}
+	}
+	return best
+}
+
+type adversarial struct {
+	name    string
+	x, c    []float64
+	m, k, d int
+}
+
+// adversarialSets builds rows and centers where the expansion ‖c‖² − 2x·c
+// is hard: far from the origin, exact and near ties, d = 1 and d = 1000.
+func adversarialSets() []adversarial {
+	rnd := rand.New(rand.NewPCG(42, 1))
+	var sets []adversarial
+	gauss := func(n int, off, scale float64) []float64 {
+		v := make([]float64, n)
+		for i := range v {
+			v[i] = off + rnd.NormFloat64()*scale
+		}
+		return v
+	}
+	// Offset 1e8 with spread 1e-3: ‖x‖² ≈ 3e16 cancels all but the last
+	// digits of the distances unless rows and centers are shifted.
+	sets = append(sets, adversarial{"offset1e8", gauss(2000*3, 1e8, 1e-3), gauss(16*3, 1e8, 1e-3), 2000, 16, 3})
+	// Offset 1e8 with unit spread in 1000 dimensions.
+	sets = append(sets, adversarial{"offset1e8-d1000", gauss(64*1000, 1e8, 1), gauss(9*1000, 1e8, 1), 64, 9, 1000})
+	// d = 1: an integer line; rows at midpoints tie exactly, and rows one
+	// ulp either side of the midpoints nearly tie.
+	{
+		c := []float64{0, 2, 4, 6, 8, 10, 12}
+		var x []float64
+		for _, mid := range []float64{1, 3, 5, 7, 9, 11} {
+			x = append(x, mid, math.Nextafter(mid, 0), math.Nextafter(mid, 20), mid)
+		}
+		x = append(x, gauss(200, 6, 4)...)
+		sets = append(sets, adversarial{"d1-ties", x, c, len(x), len(c), 1})
+	}
+	// d = 1 far from the origin: centers 1e15 + 2j, rows at and next to the
+	// midpoints.
+	{
+		var c, x []float64
+		for j := range 8 {
+			c = append(c, 1e15+2*float64(j))
+		}
+		for j := range 7 {
+			mid := 1e15 + 2*float64(j) + 1
+			x = append(x, mid, math.Nextafter(mid, 0), math.Nextafter(mid, 2e15))
+		}
+		sets = append(sets, adversarial{"d1-offset", x, c, len(x), len(c), 1})
+	}
+	// d = 2 lattice: duplicate rows, many rows equidistant from several
+	// centers (which are lattice points too, some duplicated).
+	{
+		x := make([]float64, 3000*2)
+		for i := range x {
+			x[i] = float64(rnd.IntN(7))
+		}
+		c := []float64{0, 0, 2, 2, 4, 4, 2, 2, 6, 0, 0, 6, 3, 3, 5, 1}
+		sets = append(sets, adversarial{"lattice", x, c, 3000, 8, 2})
+	}
+	// d = 1000: unit-scale Gaussian rows and centers, and rows exactly
+	// between two centers.
+	{
+		c := gauss(12*1000, 0, 1)
+		x := gauss(50*1000, 0, 1)
+		for j := 0; j+1 < 12; j += 2 {
+			mid := make([]float64, 1000)
+			for t := range mid {
+				mid[t] = (c[j*1000+t] + c[(j+1)*1000+t]) / 2
+			}
+			x = append(x, mid...)
+		}
+		sets = append(sets, adversarial{"d1000", x, c, len(x) / 1000, 12, 1000})
+	}
+	// Tiny magnitudes near underflow.
+	sets = append(sets, adversarial{"tiny", gauss(500*4, 0, 1e-160), gauss(6*4, 0, 1e-160), 500, 6, 4})
+	return sets
+}
+
+// TestAssignExact: on adversarial data the kernel search returns exactly
+// the argmin of the direct double-precision computation, the lowest index
+// on ties, whatever the tile size.
+func TestAssignExact(t *testing.T) {
+	for _, s := range adversarialSets() {
+		for _, tile := range []int{1, 5, 64, 4096} {
+			t.Run(fmt.Sprintf("%s/tile=%d", s.name, tile), func(t *testing.T) {
+				var c Centers
+				c.Pack(s.c, s.k, s.d, nil)
+				var sr Searcher
+				got := make([]int, s.m)
+				rechecked := 0
+				for lo := 0; lo < s.m; lo += tile {
+					hi := min(s.m, lo+tile)
+					rechecked += sr.Assign(got[lo:hi], s.x[lo*s.d:hi*s.d], hi-lo, &c, func(i, j int) float64 {
+						return directSq(s.x[(lo+i)*s.d:(lo+i+1)*s.d], s.c[j*s.d:(j+1)*s.d])
+					})
+				}
+				for i := range s.m {
+					require.Equal(t, bruteArgmin(s.x[i*s.d:(i+1)*s.d], s.c, s.k, s.d), got[i], "row %d", i)
+				}
+				t.Logf("%d of %d rows rechecked", rechecked, s.m)
+			})
+		}
+	}
+}
+
+// TestSlackBound: the kernel value plus ‖x'‖² is within Slack of the exact
+// squared distance (math/big) and of the direct double-precision one, for
+// every row and center of the adversarial sets, as Centers.Pack claims.
+func TestSlackBound(t *testing.T) {
+	for _, s := range adversarialSets() {
+		t.Run(s.name, func(t *testing.T) {
+			var c Centers
+			c.Pack(s.c, s.k, s.d, nil)
+			var sr Searcher
+			m := min(s.m, 40)
+			sr.Load(s.x, m, &c)
+			for j := range s.k {
+				sr.Scan(&c, j, j+1)
+				for i := range m {
+					x, cj := s.x[i*s.d:(i+1)*s.d], s.c[j*s.d:(j+1)*s.d]
+					exact, _ := exactSq(x, cj).Float64()
+					approx := sr.Best[i] + sr.R2[i]
+					require.LessOrEqual(t, math.Abs(approx-exact), sr.Slack[i], "row %d center %d", i, j)
+					require.LessOrEqual(t, math.Abs(approx-directSq(x, cj)), sr.Slack[i], "row %d center %d", i, j)
+					lo, hi := sr.Bounds(i, sr.Best[i])
+					require.LessOrEqual(t, lo, exact)
+					require.GreaterOrEqual(t, hi, exact)
+				}
+			}
+		})
+	}
+}
+
+// TestBest2Loop compares Best2 with the loop in its documentation (dot
+// products summed in index order) on random shapes, and checks that it
+// writes nothing beyond the m rows (NaN sentinels, as gonum's internal/asm
+// tests guard dst).
+func TestBest2Loop(t *testing.T) {
+	rnd := rand.New(rand.NewPCG(7, 7))
+	for trial := range 300 {
+		m, k, d := rnd.IntN(11), 1+rnd.IntN(9), 1+rnd.IntN(13)
+		x := make([]float64, m*d)
+		c := make([]float64, k*d)
+		for i := range x {
+			x[i] = rnd.NormFloat64()
+		}
+		for i := range c {
+			c[i] = rnd.NormFloat64()
+		}
+		norm2 := make([]float64, k)
+		for j := range k {
+			for _, v := range c[j*d : (j+1)*d] {
+				norm2[j] += v * v
+			}
+		}
+		const pad = 3
+		idx := make([]int, m+pad)
+		best := make([]float64, m+pad)
+		second := make([]float64, m+pad)
+		for i := range best {
+			idx[i], best[i], second[i] = -7, math.Inf(1), math.Inf(1)
+			if i >= m {
+				best[i], second[i] = math.NaN(), math.NaN()
+			}
+		}
+		Best2(idx[:m], best, second, x, d, c, norm2, 10)
+		for i := range m {
+			wantIdx, wantB, wantS := -7, math.Inf(1), math.Inf(1)
+			for j := range k {
+				var dot float64
+				for t := range d {
+					dot += x[i*d+t] * c[j*d+t]
+				}
+				v := norm2[j] - 2*dot
+				if v < wantB {
+					wantS, wantB, wantIdx = wantB, v, 10+j
+				} else if v < wantS {
+					wantS = v
+				}
+			}
+			tol := 1e-12 * (1 + math.Abs(wantB))
+			require.InDelta(t, wantB, best[i], tol, "trial %d row %d", trial, i)
+			if !math.IsInf(wantS, 1) {
+				require.InDelta(t, wantS, second[i], 1e-12*(1+math.Abs(wantS)))
+			}
+			if wantS-wantB > 1e-9 {
+				require.Equal(t, wantIdx, idx[i])
+			}
+		}
+		// The exported kernel equals the pure-Go fallback bit for bit (this
+		// compares a SIMD Best2 with it once one exists).
+		gIdx, gBest, gSecond := make([]int, m), make([]float64, m), make([]float64, m)
+		for i := range m {
+			gIdx[i], gBest[i], gSecond[i] = -7, math.Inf(1), math.Inf(1)
+		}
+		best2Go(gIdx, gBest, gSecond, x, d, c, norm2, 10)
+		require.Equal(t, gIdx, idx[:m])
+		require.Equal(t, gBest, best[:m])
+		require.Equal(t, gSecond, second[:m])
+		for i := m; i < m+pad; i++ {
+			require.Equal(t, -7, idx[i])
+			require.True(t, math.IsNaN(best[i]) && math.IsNaN(second[i]), "wrote past m")
+		}
+	}
+}
+
+func TestPanics(t *testing.T) {
+	var c Centers
+	assert.Panics(t, func() { c.Pack([]float64{1, 2}, 2, 2, nil) })
+	assert.Panics(t, func() { c.Pack([]float64{1, 2}, 1, 2, []int{0, 1}) })
+	assert.Panics(t, func() {
+		Best2(make([]int, 2), make([]float64, 1), make([]float64, 2), make([]float64, 4), 2, make([]float64, 2), make([]float64, 1), 0)
+	})
+	c.Pack([]float64{1, 2}, 1, 2, nil)
+	var s Searcher
+	assert.Panics(t, func() { s.Load([]float64{1}, 1, &c) })
+	s.Load([]float64{1, 2}, 1, &c)
+	assert.Panics(t, func() { s.Scan(&c, 0, 2) })
+}
+
+// TestPackOrder: packed centers follow the order and Index maps back; the
+// shift is the mean of the centers.
+func TestPackOrder(t *testing.T) {
+	var c Centers
+	c.Pack([]float64{0, 0, 4, 0, 2, 6}, 3, 2, []int{2, 0, 1})
+	assert.Equal(t, []float64{2, 2}, c.Shift)
+	assert.Equal(t, []float64{0, 4, -2, -2, 2, -2}, c.C)
+	assert.Equal(t, []float64{16, 8, 8}, c.Norm2)
+	assert.Equal(t, 4.0, c.MaxNorm)
+	assert.Equal(t, 2, c.Index(0))
+	assert.Equal(t, 1, c.Index(2))
+	var s Searcher
+	s.Load([]float64{4, 1}, 1, &c)
+	s.Scan(&c, 0, 3)
+	assert.Equal(t, 1, c.Index(s.Idx[0])) // (4,1) is nearest to center 1, (4,0)
+}
