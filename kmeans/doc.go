@@ -4,7 +4,9 @@
 // Cluster is the one entry point, shaped like gonum's optimize.Minimize: a
 // Problem says what to cluster (data, k, weights, metric, seeder, scaler),
 // Settings set the limits (restarts, iterations, tolerance, seed, workers,
-// progress) and a Method does the assignment passes (Lloyd; nil chooses one).
+// progress) and a Method does the assignment passes (Lloyd, Elkan, Hamerly,
+// Yinyang; nil chooses one from n, d, k and the metric). Every Method gives
+// exactly Lloyd's assignments and cost from the same seed.
 // The driver owns scaling, seeding, restarts, the center update,
 // convergence, cancellation and the choice of the best restart.
 //
