@@ -321,6 +321,21 @@ func runRestart(ctx context.Context, pr *prepared, k, restart int, seeder seedin
 	d := sp.D
 	rnd := rand.New(rand.NewPCG(set.Seed, uint64(restart)))
 	centers := mat.NewDense(k, d, nil)
+	// k-means++ runs on this restart's goroutines unless told otherwise;
+	// its centers do not depend on the number.
+	switch pp := seeder.(type) {
+	case seeding.PlusPlus:
+		if pp.Workers == 0 {
+			pp.Workers = sp.Workers()
+			seeder = pp
+		}
+	case *seeding.PlusPlus:
+		if pp != nil && pp.Workers == 0 {
+			c := *pp
+			c.Workers = sp.Workers()
+			seeder = c
+		}
+	}
 	if err := seeder.Seed(centers, mat.NewDense(sp.N, d, sp.X), sp.W, pr.metric, rnd); err != nil {
 		if errors.Is(err, seeding.ErrK) {
 			return nil, fmt.Errorf("%w: %w", ErrK, err)

@@ -1,18 +1,10 @@
 package kmeans
 
 import (
+	"github.com/centroidlab/centroid/internal/blocks"
 	"math"
-	"sync"
 
 	"github.com/centroidlab/centroid/distance"
-)
-
-// Block sizing: rows are split into at most maxBlocks fixed blocks of at
-// least minBlockRows rows. The split depends only on n, never on Workers, so
-// block-ordered reductions give the same bits for any number of workers.
-const (
-	minBlockRows = 1024
-	maxBlocks    = 64
 )
 
 // Space is a prepared problem as a Method sees it: the rows in the
@@ -31,18 +23,14 @@ type Space struct {
 	Metric distance.Objective
 	Rule   distance.CenterRule
 
-	invNorm []float64 // 1/‖x_i‖ for the Cosine rule, else nil
-	blocks  []int     // block b is rows blocks[b]..blocks[b+1]-1
-	workers int       // goroutines per restart
+	invNorm []float64    // 1/‖x_i‖ for the Cosine rule, else nil
+	blocks  blocks.Split // fixed split of the rows (depends only on N)
+	workers int          // goroutines per restart
 }
 
 func newSpace(x []float64, n, d int, w []float64, m distance.Objective, workers int) *Space {
 	sp := &Space{N: n, D: d, X: x, W: w, Metric: m, Rule: m.Rule(), workers: max(1, workers)}
-	nb := min(maxBlocks, max(1, n/minBlockRows))
-	sp.blocks = make([]int, nb+1)
-	for b := 0; b <= nb; b++ {
-		sp.blocks[b] = b * n / nb
-	}
+	sp.blocks = blocks.Of(n)
 	if sp.Rule == distance.UnitMeanRule {
 		sp.invNorm = make([]float64, n)
 		for i := range n {
@@ -68,10 +56,10 @@ func (sp *Space) Weight(i int) float64 {
 }
 
 // Blocks returns the number of fixed row blocks.
-func (sp *Space) Blocks() int { return len(sp.blocks) - 1 }
+func (sp *Space) Blocks() int { return sp.blocks.Count() }
 
 // Block returns the rows [lo, hi) of block b.
-func (sp *Space) Block(b int) (lo, hi int) { return sp.blocks[b], sp.blocks[b+1] }
+func (sp *Space) Block(b int) (lo, hi int) { return sp.blocks.Bounds(b) }
 
 // Workers returns the number of goroutines Parallel uses.
 func (sp *Space) Workers() int { return sp.workers }
@@ -79,34 +67,7 @@ func (sp *Space) Workers() int { return sp.workers }
 // Parallel calls fn(b) once for every block b, on up to Workers()
 // goroutines, and returns when all calls have returned. fn must write only
 // to state owned by block b so that results do not depend on scheduling.
-func (sp *Space) Parallel(fn func(b int)) {
-	nb := sp.Blocks()
-	w := min(sp.workers, nb)
-	if w <= 1 {
-		for b := range nb {
-			fn(b)
-		}
-		return
-	}
-	var wg sync.WaitGroup
-	var mu sync.Mutex
-	next := 0
-	for range w {
-		wg.Go(func() {
-			for {
-				mu.Lock()
-				b := next
-				next++
-				mu.Unlock()
-				if b >= nb {
-					return
-				}
-				fn(b)
-			}
-		})
-	}
-	wg.Wait()
-}
+func (sp *Space) Parallel(fn func(b int)) { sp.blocks.Each(sp.workers, fn) }
 
 // Loss returns the metric's loss of row i against center c.
 func (sp *Space) Loss(i int, c []float64) float64 { return sp.Metric.Loss(sp.Row(i), c) }

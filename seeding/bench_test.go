@@ -43,3 +43,14 @@ func BenchmarkPlusPlus(b *testing.B)        { benchmarkGrid(b, seeding.PlusPlus{
 func BenchmarkPlusPlusClassic(b *testing.B) { benchmarkGrid(b, seeding.PlusPlus{Candidates: 1}) }
 func BenchmarkRandom(b *testing.B)          { benchmarkGrid(b, seeding.Random{}) }
 func BenchmarkUniform(b *testing.B)         { benchmarkGrid(b, seeding.Uniform{}) }
+
+// BenchmarkPlusPlusWorkers compares one and two goroutines on the default
+// greedy k-means++ (the centers are the same).
+func BenchmarkPlusPlusWorkers(b *testing.B) {
+	const n, d, k = 100_000, 16, 64
+	for _, w := range []int{1, 2} {
+		b.Run(fmt.Sprintf("n=%d/d=%d/k=%d/workers=%d", n, d, k, w), func(b *testing.B) {
+			benchmarkSeed(b, seeding.PlusPlus{Workers: w}, n, d, k)
+		})
+	}
+}

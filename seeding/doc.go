@@ -6,8 +6,9 @@
 //	seeder     centers                                      time              extra memory
 //	Random     k distinct rows, drawn by weight             O(n·d) expected   n float64
 //	Uniform    k points uniform in the rows' bounding box   O(n·d + k·d)      O(k·d)
-//	PlusPlus   k-means++ (Arthur & Vassilvitskii 2007),     O(n·d·k·L)        2n or 3n float64
-//	           greedy with L candidates per step
+//	PlusPlus   k-means++ (Arthur & Vassilvitskii 2007),     O(n·d·k·L)        n float64
+//	           greedy with L candidates per step, one       (parallel)
+//	           pass over the data per step
 //
 // PlusPlus is the usual choice: for the within-cluster sum of squares the
 // paper proves that classic k-means++ seeding alone is O(log k)-competitive
@@ -35,10 +36,15 @@
 // # Determinism
 //
 // All randomness comes from the *rand.Rand passed to Seed: the same data,
-// weights, metric and generator state give bit-identical centers.
+// weights, metric and generator state give bit-identical centers. This holds
+// for any PlusPlus.Workers: PlusPlus splits the rows into fixed blocks that
+// depend only on n and adds the blocks' partial sums in block order.
 //
 // # Concurrency
 //
 // The seeders are plain values with no state; they are safe for concurrent
 // use by multiple goroutines as long as each call has its own dst and rnd.
+// Random and Uniform run on the calling goroutine; PlusPlus spreads each
+// pass over the data on PlusPlus.Workers goroutines (1 by default) and
+// returns only when they are done.
 package seeding

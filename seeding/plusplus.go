@@ -2,6 +2,7 @@ package seeding
 
 import (
 	"fmt"
+	"github.com/centroidlab/centroid/internal/blocks"
 	"math"
 	"math/rand/v2"
 
@@ -24,21 +25,35 @@ import (
 // Duplicates: a row with D(x) = 0 has zero probability, so PlusPlus never
 // returns two equal centers. Rows count as distinct when their loss is
 // positive, so under Cosine two rows pointing the same way (x and 2x) count
-// as one when their computed dissimilarity is exactly 0. If every positive-weight row is at loss 0 from the centers
-// chosen so far before k are found, Seed returns an error wrapping ErrK. If
-// the weighted losses overflow float64, it returns an error wrapping
-// distance.ErrNotFinite.
+// as one when their computed dissimilarity is exactly 0. If every
+// positive-weight row is at loss 0 from the centers chosen so far before k
+// are found, Seed returns an error wrapping ErrK. If the weighted losses
+// overflow float64, it returns an error wrapping distance.ErrNotFinite.
 //
-// Cost: n·(1 + (k−1)·L) loss evaluations of d coordinates each, O(n·d·k·L)
-// time with L the number of candidates, plus O(n) per step for the running
-// sum. Memory: 2n float64 for classic (nearest loss per row and a running
-// sum), 3n for the greedy variant; no n×k matrix. Seed allocates its
-// scratch once per call.
+// Parallelism and determinism: rows are split into at most 64 fixed blocks
+// of at least 1024 rows, a split that depends only on n. Each pass hands
+// whole blocks to Workers goroutines; sums are taken within a block in row
+// order and then added in block order. A draw takes u·total, finds the
+// block by a scan over the block sums and then the row by a scan within the
+// block. The centers are therefore bit-identical for any Workers value.
+//
+// Cost: each step evaluates all its L candidates in one pass over the data
+// and then updates the nearest losses for the kept one in a second pass, so
+// a call makes n·(1 + (k−1)·(L+1)) loss evaluations of d coordinates each
+// (n·k for classic k-means++): O(n·d·k·L) time, divided among Workers
+// goroutines. Each draw scans at most 64 block sums and the rows of one
+// block. Memory: n float64 for the nearest losses plus O(L) per block; no
+// n×k matrix. Seed allocates its scratch once per call.
 type PlusPlus struct {
 	// Candidates is the number of rows drawn at each step, of which the one
 	// giving the lowest total weighted loss is kept. Zero means 2 + ⌊ln k⌋;
 	// 1 is classic k-means++; negative values are invalid (ErrParameter).
 	Candidates int
+	// Workers is the number of goroutines Seed uses. Zero means 1
+	// (kmeans.Cluster replaces a zero with its goroutines per restart);
+	// negative values are invalid (ErrParameter). The centers do not depend
+	// on it.
+	Workers int
 }
 
 // candidates returns the number of draws per step for k centers.
@@ -49,60 +64,59 @@ func (p PlusPlus) candidates(k int) int {
 	return 2 + int(math.Log(float64(k)))
 }
 
+// isEuclidean reports whether m is distance.Euclidean, whose loss
+// sqEuclidean2 computes two at a time.
+func isEuclidean(m distance.Metric) bool {
+	_, ok := m.(distance.Euclidean)
+	return ok
+}
+
 // Seed implements Seeder.
 func (p PlusPlus) Seed(dst *mat.Dense, data *mat.Dense, weights []float64, m distance.Metric, rnd *rand.Rand) error {
 	if p.Candidates < 0 {
 		return fmt.Errorf("%w: PlusPlus.Candidates = %d, want ≥ 0", ErrParameter, p.Candidates)
 	}
+	if p.Workers < 0 {
+		return fmt.Errorf("%w: PlusPlus.Workers = %d, want ≥ 0", ErrParameter, p.Workers)
+	}
 	in, err := check(dst, data, weights, m, rnd)
 	if err != nil {
 		return err
 	}
-	s := sweep{input: in, loss: lossFunc(in.m)}
 	L := p.candidates(in.k)
-
-	cum := make([]float64, in.n)
-	near := make([]float64, in.n)
-	var best []float64
-	if L > 1 {
-		best = make([]float64, in.n)
-	}
-	cands := make([]int, L)
+	st := newPlusState(in, L, max(1, p.Workers))
 	chosen := make([]int, 1, in.k)
+	idx := make([]int, 0, L)
 
-	in.cumWeights(cum)
-	chosen[0] = pick(cum, rnd)
-	s.update(near, nil, in.row(chosen[0]))
+	st.bl.Each(st.workers, st.initFn)
+	weightSum := st.total()
+	if math.IsInf(weightSum, 0) {
+		return fmt.Errorf("%w: the sum of the weights overflows", ErrWeights)
+	}
+	chosen[0] = st.draw(rnd, weightSum)
+	st.update(in.row(chosen[0]), true)
 	for len(chosen) < in.k {
-		total := s.cumLoss(cum, near)
+		total := st.total()
 		if total == 0 {
 			return fmt.Errorf("%w: k = %d but data has only %d distinct rows with positive weight under %s", ErrK, in.k, len(chosen), in.m.Name())
 		}
 		if math.IsNaN(total) || math.IsInf(total, 0) {
 			return fmt.Errorf("seeding: %w: the weighted losses overflow float64; rescale the data", distance.ErrNotFinite)
 		}
-		for c := range cands {
-			cands[c] = pick(cum, rnd)
+		idx = idx[:0]
+		for range L {
+			if i := st.draw(rnd, total); !repeated(idx, i) {
+				idx = append(idx, i)
+			}
 		}
-		if L == 1 {
-			s.update(near, near, in.row(cands[0]))
-			chosen = append(chosen, cands[0])
+		if len(idx) == 1 {
+			st.update(in.row(idx[0]), false)
+			chosen = append(chosen, idx[0])
 			continue
 		}
-		// The running sum is spent: cum becomes the scratch for trials.
-		bestIdx, bestPot := -1, 0.0
-		for c, i := range cands {
-			if repeated(cands[:c], i) {
-				continue
-			}
-			pot := s.update(cum, near, in.row(i))
-			if bestIdx < 0 || pot < bestPot {
-				bestIdx, bestPot = i, pot
-				cum, best = best, cum
-			}
-		}
-		near, best = best, near
-		chosen = append(chosen, bestIdx)
+		best := idx[st.evaluate(idx)]
+		st.update(in.row(best), false)
+		chosen = append(chosen, best)
 	}
 	in.writeRows(chosen)
 	return nil
@@ -118,48 +132,234 @@ func repeated(idx []int, i int) bool {
 	return false
 }
 
-// sweep evaluates one candidate center against all rows.
-type sweep struct {
+// plusState is the scratch of one PlusPlus.Seed call.
+type plusState struct {
 	*input
-	loss func(x, c []float64) float64
+	loss    func(x, c []float64) float64
+	bl      blocks.Split
+	workers int
+	near    []float64   // loss from row i to its nearest center (0 for weight 0)
+	sums    []float64   // sums[b] = Σ w_i·near[i] over block b, in row order
+	pots    []float64   // pots[b·L+c]: the same sum once candidate c is added
+	cands   [][]float64 // rows of the candidates being evaluated
+	potLen  int         // L: the number of pots per block
+	euclid  bool        // the loss is distance.SqEuclidean
+	center  []float64   // the center update adds
+	first   bool        // update adds the first center
+
+	// Bound once so that passes do not allocate.
+	initFn, updateFn, evalFn func(b int)
 }
 
-// update sets dst[i] to the loss from row i to its nearest center once c is
-// added, given near[i], the loss to the nearest current center (nil: no
-// center yet), and returns the total weighted loss Σ w_i·dst[i]. dst and near
-// may be the same slice. Rows of zero weight get 0.
-func (s sweep) update(dst, near []float64, c []float64) float64 {
-	var pot float64
-	for i := range dst {
-		w := s.weight(i)
-		if w == 0 {
-			dst[i] = 0
-			continue
-		}
-		l := s.loss(s.row(i), c)
-		if near != nil && near[i] < l {
-			l = near[i]
-		}
-		dst[i] = l
-		pot += w * l
+func newPlusState(in *input, L, workers int) *plusState {
+	bl := blocks.Of(in.n)
+	st := &plusState{
+		input:   in,
+		loss:    lossFunc(in.m),
+		euclid:  isEuclidean(in.m),
+		bl:      bl,
+		workers: workers,
+		near:    make([]float64, in.n),
+		sums:    make([]float64, bl.Count()),
 	}
-	return pot
+	st.initFn, st.updateFn, st.evalFn = st.initBlock, st.updateBlock, st.evalBlock
+	if L > 1 {
+		st.potLen = L
+		st.pots = make([]float64, bl.Count()*L)
+		st.cands = make([][]float64, 0, L)
+	}
+	return st
 }
 
-// cumLoss fills cum with the running sum of w_i·near[i] and returns the
-// total.
-func (s sweep) cumLoss(cum, near []float64) float64 {
+// term returns w_i·near[i], the unnormalized probability of drawing row i.
+func (st *plusState) term(i int) float64 {
+	if st.w == nil {
+		return st.near[i]
+	}
+	return st.w[i] * st.near[i]
+}
+
+// total returns the sum of the block sums in block order.
+func (st *plusState) total() float64 {
 	var t float64
-	if s.w == nil {
-		for i, l := range near {
-			t += l
-			cum[i] = t
-		}
-		return t
-	}
-	for i, l := range near {
-		t += s.w[i] * l
-		cum[i] = t
+	for _, s := range st.sums {
+		t += s
 	}
 	return t
+}
+
+// draw returns a row i drawn with probability term(i)/total, where total is
+// st.total(), positive and finite. A row whose term is zero is never drawn.
+func (st *plusState) draw(rnd *rand.Rand, total float64) int {
+	u := rnd.Float64() * total
+	if u >= total {
+		u = math.Nextafter(total, 0)
+	}
+	// Smallest block b with prefix(b) + sums[b] > u, where prefix(b) is the
+	// block-ordered sum of the earlier blocks, added as total() adds them.
+	// Then prefix(b) ≤ u, so sums[b] > 0.
+	var prefix float64
+	b := 0
+	for last := st.bl.Count() - 1; b < last && prefix+st.sums[b] <= u; b++ {
+		prefix += st.sums[b]
+	}
+	// Smallest row of the block whose running sum (taken as in the block
+	// sum) exceeds u − prefix ≥ 0; rounding may leave the whole block at or
+	// below it, and then the last row of positive term is taken.
+	u -= prefix
+	var t float64
+	last := -1
+	for i := st.bl[b]; i < st.bl[b+1]; i++ {
+		if v := st.term(i); v > 0 {
+			last = i
+			if t += v; t > u {
+				return i
+			}
+		}
+	}
+	return last
+}
+
+// initBlock sets near to 1 in block b, so that the first draw follows the
+// weights.
+func (st *plusState) initBlock(b int) {
+	var s float64
+	for i := st.bl[b]; i < st.bl[b+1]; i++ {
+		st.near[i] = 1
+		s += st.weight(i)
+	}
+	st.sums[b] = s
+}
+
+// update adds center c: near[i] becomes the loss to c, or the smaller of
+// near[i] and that loss unless first, and the block sums follow.
+func (st *plusState) update(c []float64, first bool) {
+	st.center, st.first = c, first
+	st.bl.Each(st.workers, st.updateFn)
+}
+
+// updateBlock does update's work on block b.
+func (st *plusState) updateBlock(b int) {
+	c, first := st.center, st.first
+	var s float64
+	lo, hi := st.bl[b], st.bl[b+1]
+	for i := lo; i < hi; i++ {
+		w := st.weight(i)
+		if w == 0 {
+			st.near[i] = 0
+			continue
+		}
+		if st.euclid && i+1 < hi && st.weight(i+1) != 0 {
+			// Two rows at once; (c−x)² has the bits of (x−c)².
+			l0, l1 := sqEuclidean2(c, st.row(i), st.row(i+1))
+			s += w * st.lower(i, l0, first)
+			i++
+			s += st.weight(i) * st.lower(i, l1, first)
+			continue
+		}
+		s += w * st.lower(i, st.loss(st.row(i), c), first)
+	}
+	st.sums[b] = s
+}
+
+// lower sets near[i] to l, or to min(near[i], l) unless first, and returns
+// the new value.
+func (st *plusState) lower(i int, l float64, first bool) float64 {
+	if !first {
+		l = min2(st.near[i], l)
+	}
+	st.near[i] = l
+	return l
+}
+
+// evaluate computes, in one pass over the data, the total weighted loss
+// once each of the distinct rows idx is added as a center, and returns the
+// position in idx of the lowest (the earliest on ties). It leaves near and
+// sums unchanged.
+func (st *plusState) evaluate(idx []int) int {
+	st.cands = st.cands[:0]
+	for _, i := range idx {
+		st.cands = append(st.cands, st.row(i))
+	}
+	L := len(st.cands)
+	st.bl.Each(st.workers, st.evalFn)
+	best, bestPot := -1, 0.0
+	for c := range L {
+		var pot float64
+		for b := range st.bl.Count() {
+			pot += st.pots[b*st.potLen+c]
+		}
+		if best < 0 || pot < bestPot {
+			best, bestPot = c, pot
+		}
+	}
+	return best
+}
+
+// evalBlock sets pots[b·potLen+c] to Σ w_i·min(near[i], loss(x_i, c)) over
+// block b for every candidate c.
+func (st *plusState) evalBlock(b int) {
+	L := len(st.cands)
+	// Sum in a local array so that blocks on other goroutines never share
+	// a cache line with this one while it runs.
+	var local [16]float64
+	pot := local[:]
+	if L > len(local) {
+		pot = st.pots[b*st.potLen : b*st.potLen+L]
+	}
+	pot = pot[:L]
+	clear(pot)
+	for i := st.bl[b]; i < st.bl[b+1]; i++ {
+		w := st.weight(i)
+		if w == 0 {
+			continue
+		}
+		x, nr := st.row(i), st.near[i]
+		c := 0
+		if st.euclid {
+			for ; c+1 < L; c += 2 {
+				l0, l1 := sqEuclidean2(x, st.cands[c], st.cands[c+1])
+				l0, l1 = min2(nr, l0), min2(nr, l1)
+				pot[c] += w * l0
+				pot[c+1] += w * l1
+			}
+		}
+		for ; c < L; c++ {
+			l := min2(nr, st.loss(x, st.cands[c]))
+			pot[c] += w * l
+		}
+	}
+	copy(st.pots[b*st.potLen:], pot)
+}
+
+// min2 returns l, or near when near < l.
+func min2(near, l float64) float64 {
+	if near < l {
+		return near
+	}
+	return l
+}
+
+// sqEuclidean2 returns distance.SqEuclidean(x, a) and SqEuclidean(x, b),
+// bit for bit (same pairs of running sums), computed together so that the
+// four sums can advance in parallel. a and b must have len(x) elements.
+func sqEuclidean2(x, a, b []float64) (float64, float64) {
+	a, b = a[:len(x)], b[:len(x)]
+	var a0, a1, b0, b1 float64
+	i := 0
+	for ; i+1 < len(x); i += 2 {
+		x0, x1 := x[i], x[i+1]
+		d0, d1 := x0-a[i], x1-a[i+1]
+		e0, e1 := x0-b[i], x1-b[i+1]
+		a0 += d0 * d0
+		a1 += d1 * d1
+		b0 += e0 * e0
+		b1 += e1 * e1
+	}
+	if i < len(x) {
+		d, e := x[i]-a[i], x[i]-b[i]
+		a0 += d * d
+		b0 += e * e
+	}
+	return a0 + a1, b0 + b1
 }

@@ -558,6 +558,8 @@ func TestBadInput(t *testing.T) {
 	}
 	err := seeding.PlusPlus{Candidates: -1}.Seed(mat.NewDense(2, 2, nil), good(), nil, nil, rand.New(rand.NewPCG(1, 2)))
 	assert.ErrorIs(t, err, seeding.ErrParameter)
+	err = seeding.PlusPlus{Workers: -1}.Seed(mat.NewDense(2, 2, nil), good(), nil, nil, rand.New(rand.NewPCG(1, 2)))
+	assert.ErrorIs(t, err, seeding.ErrParameter)
 }
 
 func TestInputsUnmodified(t *testing.T) {
@@ -594,4 +596,76 @@ func TestScratchDoesNotGrowPerRow(t *testing.T) {
 	for _, tc := range seeders {
 		assert.Equal(t, allocs(tc.s, 100), allocs(tc.s, 5000), tc.name)
 	}
+}
+
+func TestPlusPlusWorkersBitIdentical(t *testing.T) {
+	// The block split depends only on n, so any number of goroutines must
+	// give the same centers bit for bit. n = 20000 gives 19 blocks.
+	const n, d = 20000, 3
+	rnd := rand.New(rand.NewPCG(101, 102))
+	data := gaussRows(rnd, n, d)
+	weights := make([]float64, n)
+	for i := range weights {
+		if i%7 != 0 {
+			weights[i] = 0.1 + 3*rnd.Float64() // every 7th row has weight 0
+		}
+	}
+	for _, w := range []struct {
+		name string
+		w    []float64
+	}{{"unweighted", nil}, {"weighted", weights}} {
+		for _, m := range []distance.Metric{distance.Euclidean{}, distance.Manhattan{}} {
+			for _, k := range []int{1, 2, 9, 40} {
+				for _, cand := range []int{0, 1} {
+					t.Run(fmt.Sprintf("%s/%s/k=%d/candidates=%d", w.name, m.Name(), k, cand), func(t *testing.T) {
+						var want []float64
+						for _, workers := range []int{1, 2, 3, 8} {
+							dst := mat.NewDense(k, d, nil)
+							s := seeding.PlusPlus{Candidates: cand, Workers: workers}
+							require.NoError(t, s.Seed(dst, data, w.w, m, rand.New(rand.NewPCG(uint64(k), 103))))
+							requireDistinct(t, dst)
+							got := dst.RawMatrix().Data
+							if want == nil {
+								want = slices.Clone(got)
+								continue
+							}
+							require.Equalf(t, want, got, "workers = %d", workers)
+						}
+					})
+				}
+			}
+		}
+	}
+}
+
+func TestPlusPlusDrawAcrossBlocks(t *testing.T) {
+	// 3072 rows make 3 blocks; the only positive weights sit at block edges
+	// and in the middle of blocks, so the draw must find the right block and
+	// the right row in it: P(row i) = w_i / Σ w, computed here directly.
+	const n = 3072
+	rows := []int{0, 1023, 1024, 2500, 3071}
+	weights := make([]float64, n)
+	var total float64
+	for j, i := range rows {
+		weights[i] = float64(j + 1)
+		total += weights[i]
+	}
+	data := mat.NewDense(n, 1, nil)
+	for i := range n {
+		data.Set(i, 0, float64(i))
+	}
+	const draws = 10000
+	rnd := rand.New(rand.NewPCG(111, 112))
+	counts := make(map[int]int)
+	dst := mat.NewDense(1, 1, nil)
+	for range draws {
+		require.NoError(t, seeding.PlusPlus{}.Seed(dst, data, weights, nil, rnd))
+		counts[int(dst.At(0, 0))]++
+	}
+	var seen int
+	for _, i := range rows {
+		assertShare(t, counts[i], draws, weights[i]/total, fmt.Sprintf("row %d", i))
+		seen += counts[i]
+	}
+	assert.Equal(t, draws, seen, "a row of weight 0 was drawn")
 }
