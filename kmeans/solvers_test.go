@@ -240,8 +240,11 @@ func TestChoose(t *testing.T) {
 		{1000, 2, 20, distance.Cosine{}, "Lloyd"},
 		{1000, 16, 8, distance.Euclidean{}, "Lloyd"},
 		{1000, 16, 26, distance.Manhattan{}, "Hamerly"},
-		{1000, 16, 64, distance.Euclidean{}, "Yinyang"},
+		{1000, 16, 64, distance.Euclidean{}, "Hamerly"},
+		{1000, 16, 256, distance.Euclidean{}, "Yinyang"},
+		{1000, 32, 64, distance.Euclidean{}, "Yinyang"},
 		{1000, 256, 64, distance.Euclidean{}, "Elkan"},
+		{1000, 256, 8, distance.Euclidean{}, "Hamerly"},
 		{1000, 256, 256, distance.Euclidean{}, "Yinyang"},
 		{1000, 3, 1, distance.Euclidean{}, "Lloyd"},
 	}

@@ -6,7 +6,8 @@
 // kmeans.Cluster once per solver with one restart, seed 1 and the same pass
 // limit, and prints the wall time and the row–center distance evaluations
 // of each solver relative to Lloyd (in brackets: the time ratio after
-// subtracting the k-means++ seeding time, measured alone), plus the solver
+// subtracting the k-means++ seeding time, measured alone on the same
+// number of workers), plus the solver
 // the automatic choice picked and its time relative to the fastest. It then
 // times the assignment kernel of internal/nearest, gonum's blas64 Dgemm and
 // a naive triple loop on the same rows×d×k shape (1 and 2 threads), and
@@ -16,7 +17,7 @@
 //
 // Every solver is exact, so all of them run the same passes (the command
 // stops if a solver's passes or cost differ from Lloyd's); wall times
-// include k-means++ seeding, which is serial and costs several Lloyd
-// passes. Run it on an otherwise idle machine: other load distorts both the
+// include k-means++ seeding, which runs on the same workers and costs
+// several Lloyd passes. Run it on an otherwise idle machine: other load distorts both the
 // times and the 1-vs-2-thread ratios.
 package main

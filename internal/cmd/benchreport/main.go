@@ -99,14 +99,15 @@ func (c config) cluster(x *mat.Dense, k, iters, workers int, m kmeans.Method) ru
 	return best
 }
 
-// seedSecs times k-means++ seeding alone (the fastest of reps).
-func (c config) seedSecs(x *mat.Dense, k int) float64 {
+// seedSecs times k-means++ seeding alone on the given number of workers
+// (the fastest of reps).
+func (c config) seedSecs(x *mat.Dense, k, workers int) float64 {
 	_, d := x.Dims()
 	best := math.Inf(1)
 	for range c.reps {
 		dst := mat.NewDense(k, d, nil)
 		start := time.Now()
-		if err := (seeding.PlusPlus{}).Seed(dst, x, nil, distance.Euclidean{}, rand.New(rand.NewPCG(1, 0))); err != nil {
+		if err := (seeding.PlusPlus{Workers: workers}).Seed(dst, x, nil, distance.Euclidean{}, rand.New(rand.NewPCG(1, 0))); err != nil {
 			fmt.Fprintln(os.Stderr, "benchreport:", err)
 			os.Exit(1)
 		}
@@ -129,7 +130,7 @@ func (c config) solvers(label string, x *mat.Dense, k, iters int) map[string]run
 	}
 	lloyd := runs["Lloyd"]
 	fastest := lloyd
-	seed := c.seedSecs(x, k)
+	seed := c.seedSecs(x, k, runtime.GOMAXPROCS(0))
 	cells := []string{label, strconv.Itoa(lloyd.res.Iterations), ms(seed), ms(lloyd.secs)}
 	for _, m := range methods[1:] {
 		r := runs[name(m)]
@@ -216,17 +217,17 @@ func (c config) grid(ns, ds, ks []int) {
 	if len(work) == 0 {
 		return
 	}
-	fmt.Println("## Workers: wall time with 1 worker ÷ with 2 workers (in brackets: without the serial k-means++ seeding)")
+	fmt.Println("## Workers: wall time with 1 worker ÷ with 2 workers (in brackets: without k-means++ seeding, timed alone on the same workers)")
 	fmt.Println()
-	fmt.Println("| cell | seeding ms | Lloyd | Elkan | Hamerly | Yinyang |\n|---|---|---|---|---|---|")
+	fmt.Println("| cell | seeding ms (1 / 2 workers) | Lloyd | Elkan | Hamerly | Yinyang |\n|---|---|---|---|---|---|")
 	for _, ce := range work {
 		x := synth.Blobs(ce.n, ce.d, synth.GridClusters, 1)
-		seed := c.seedSecs(x, ce.k)
-		cells := []string{fmt.Sprintf("n=%s d=%d k=%d", exp(ce.n), ce.d, ce.k), ms(seed)}
+		seed1, seed2 := c.seedSecs(x, ce.k, 1), c.seedSecs(x, ce.k, 2)
+		cells := []string{fmt.Sprintf("n=%s d=%d k=%d", exp(ce.n), ce.d, ce.k), ms(seed1) + " / " + ms(seed2)}
 		for _, m := range methods {
 			one := c.cluster(x, ce.k, c.iters, 1, m)
 			two := c.cluster(x, ce.k, c.iters, 2, m)
-			cells = append(cells, fmt.Sprintf("%.2f× (%.2f×)", one.secs/two.secs, passes(one.secs, seed)/passes(two.secs, seed)))
+			cells = append(cells, fmt.Sprintf("%.2f× (%.2f×)", one.secs/two.secs, passes(one.secs, seed1)/passes(two.secs, seed2)))
 		}
 		fmt.Println("| " + strings.Join(cells, " | ") + " |")
 		runtime.GC()
