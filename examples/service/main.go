@@ -49,9 +49,9 @@ func run(ctx context.Context, args []string, logw io.Writer, ready func(addr str
 	fs := flag.NewFlagSet("service", flag.ContinueOnError)
 	fs.SetOutput(logw)
 	addr := fs.String("addr", "127.0.0.1:8080", "address to listen on (host:port; port 0 picks a free one)")
-	modelPath := fs.String("model", "", "model document to serve (default: fit one on the demo stations)")
-	seed := fs.Uint64("seed", 1, "seed of the demo stations and of the demo fit")
-	k := fs.Int("k", 5, "clusters of the demo fit")
+	modelPath := fs.String("model", "", "model document to serve (default: cluster the demo stations)")
+	seed := fs.Uint64("seed", 1, "seed of the demo stations and of the demo clustering")
+	k := fs.Int("k", 5, "clusters of the demo clustering")
 	lim := DefaultLimits
 	fs.Int64Var(&lim.MaxBody, "max-body", lim.MaxBody, "largest /v1/assign body in bytes")
 	fs.IntVar(&lim.MaxRows, "max-rows", lim.MaxRows, "most rows per /v1/assign request")
@@ -146,7 +146,7 @@ func readModelFile(path string, lim Limits) (*kmeans.Model, error) {
 	return m, nil
 }
 
-// Demo fit: the Riverton stations, z-scored, with the library defaults.
+// Demo clustering: the Riverton stations, z-scored, with the library defaults.
 const demoStations = 500
 
 // demoModel fits k clusters on the demo stations and names the features.
