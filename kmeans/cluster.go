@@ -4,6 +4,7 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"github.com/centroidlab/centroid/internal/rowset"
 	"math"
 	"math/rand/v2"
 	"sync"
@@ -250,48 +251,13 @@ func checkWeights(w []float64, n int) error {
 
 // countDistinct counts distinct rows of positive weight, stopping at limit.
 func countDistinct(x []float64, n, d int, w []float64, limit int) int {
-	seen := make(map[uint64][]int)
-	count := 0
-	for i := 0; i < n && count < limit; i++ {
-		if w != nil && w[i] == 0 {
-			continue
-		}
-		row := x[i*d : (i+1)*d]
-		h := hashRow(row)
-		dup := false
-		for _, j := range seen[h] {
-			if rowsEqual(x[j*d:(j+1)*d], row) {
-				dup = true
-				break
-			}
-		}
-		if !dup {
-			seen[h] = append(seen[h], i)
-			count++
+	set := rowset.New(limit)
+	for i := 0; i < n && set.Len() < limit; i++ {
+		if w == nil || w[i] > 0 {
+			set.Add(x[i*d : (i+1)*d])
 		}
 	}
-	return count
-}
-
-func hashRow(row []float64) uint64 {
-	h := uint64(14695981039346656037)
-	for _, v := range row {
-		if v == 0 {
-			v = 0 // fold -0 into +0
-		}
-		h ^= math.Float64bits(v)
-		h *= 1099511628211
-	}
-	return h
-}
-
-func rowsEqual(a, b []float64) bool {
-	for i, v := range a {
-		if v != b[i] {
-			return false
-		}
-	}
-	return true
+	return set.Len()
 }
 
 // outcome is the end state of one restart.

@@ -159,61 +159,6 @@ func pick(cum []float64, rnd *rand.Rand) int {
 	return lo
 }
 
-// rowSet is a set of rows compared by value (−0 equals +0). It keeps the
-// slices it is given, not copies.
-type rowSet struct {
-	buckets map[uint64][][]float64
-	len     int
-}
-
-func newRowSet(capacity int) *rowSet {
-	return &rowSet{buckets: make(map[uint64][][]float64, capacity)}
-}
-
-// has reports whether a row equal to x is in the set.
-func (s *rowSet) has(x []float64) bool {
-	for _, y := range s.buckets[hashRow(x)] {
-		if equalRows(x, y) {
-			return true
-		}
-	}
-	return false
-}
-
-// add inserts x unless an equal row is present and reports whether it did.
-func (s *rowSet) add(x []float64) bool {
-	h := hashRow(x)
-	b := s.buckets[h]
-	for _, y := range b {
-		if equalRows(x, y) {
-			return false
-		}
-	}
-	s.buckets[h] = append(b, x)
-	s.len++
-	return true
-}
-
-// hashRow hashes the values of x so that rows equal by == hash alike.
-func hashRow(x []float64) uint64 {
-	h := uint64(14695981039346656037)
-	for _, v := range x {
-		h ^= math.Float64bits(v + 0) // + 0 turns −0 into +0
-		h *= 1099511628211
-		h ^= h >> 29
-	}
-	return h
-}
-
-func equalRows(x, y []float64) bool {
-	for i, v := range x {
-		if v != y[i] {
-			return false
-		}
-	}
-	return true
-}
-
 // lossFunc returns the per-row loss k-means++ samples by: the metric's Loss
 // when it is an Objective, else its squared Distance.
 func lossFunc(m distance.Metric) func(x, c []float64) float64 {

@@ -2,6 +2,7 @@ package seeding
 
 import (
 	"fmt"
+	"github.com/centroidlab/centroid/internal/rowset"
 	"math/rand/v2"
 
 	"github.com/centroidlab/centroid/distance"
@@ -41,11 +42,11 @@ func (Random) Seed(dst *mat.Dense, data *mat.Dense, weights []float64, m distanc
 	cum := make([]float64, in.n)
 	in.cumWeights(cum)
 	chosen := make([]int, 0, in.k)
-	set := newRowSet(in.k)
+	set := rowset.New(in.k)
 	misses := 0
 	for len(chosen) < in.k {
 		i := pick(cum, rnd)
-		if set.add(in.row(i)) {
+		if set.Add(in.row(i)) {
 			chosen = append(chosen, i)
 			misses = 0
 			continue
@@ -65,10 +66,10 @@ func (Random) Seed(dst *mat.Dense, data *mat.Dense, weights []float64, m distanc
 
 // cumUnchosen fills cum with the running sum of the weights of rows whose
 // value is not in set and reports whether any such row has positive weight.
-func (in *input) cumUnchosen(cum []float64, set *rowSet) bool {
+func (in *input) cumUnchosen(cum []float64, set *rowset.Set) bool {
 	var s float64
 	for i := range cum {
-		if w := in.weight(i); w > 0 && !set.has(in.row(i)) {
+		if w := in.weight(i); w > 0 && !set.Has(in.row(i)) {
 			s += w
 		}
 		cum[i] = s

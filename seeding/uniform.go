@@ -2,6 +2,7 @@ package seeding
 
 import (
 	"fmt"
+	"github.com/centroidlab/centroid/internal/rowset"
 	"math"
 	"math/rand/v2"
 
@@ -42,7 +43,7 @@ func (Uniform) Seed(dst *mat.Dense, data *mat.Dense, weights []float64, m distan
 	}
 	lo, hi := in.box()
 	centers := make([]float64, in.k*in.d)
-	set := newRowSet(in.k)
+	set := rowset.New(in.k)
 	for j := range in.k {
 		c := centers[j*in.d : (j+1)*in.d : (j+1)*in.d]
 		for try := 0; ; try++ {
@@ -52,7 +53,7 @@ func (Uniform) Seed(dst *mat.Dense, data *mat.Dense, weights []float64, m distan
 			for col := range c {
 				c[col] = between(lo[col], hi[col], rnd)
 			}
-			if distance.CheckRow(in.m, c) == nil && set.add(c) {
+			if distance.CheckRow(in.m, c) == nil && set.Add(c) {
 				break
 			}
 		}
@@ -65,13 +66,13 @@ func (Uniform) Seed(dst *mat.Dense, data *mat.Dense, weights []float64, m distan
 
 // distinct counts the distinct rows with positive weight, stopping at k.
 func (in *input) distinct() int {
-	set := newRowSet(in.k)
-	for i := 0; i < in.n && set.len < in.k; i++ {
+	set := rowset.New(in.k)
+	for i := 0; i < in.n && set.Len() < in.k; i++ {
 		if in.weight(i) > 0 {
-			set.add(in.row(i))
+			set.Add(in.row(i))
 		}
 	}
-	return set.len
+	return set.Len()
 }
 
 // box returns the coordinate-wise minimum and maximum of the rows with
