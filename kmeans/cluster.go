@@ -262,14 +262,15 @@ func countDistinct(x []float64, n, d int, w []float64, limit int) int {
 
 // outcome is the end state of one restart.
 type outcome struct {
-	restart    int
-	centers    []float64
-	assign     []int
-	cost       float64
-	iterations int
-	status     Status
-	distances  int64
-	repairs    int
+	restart     int
+	centers     []float64
+	assign      []int
+	cost        float64
+	clusterCost []float64 // per-cluster share of cost
+	iterations  int
+	status      Status
+	distances   int64
+	repairs     int
 }
 
 // run is the state of one restart shared with the update step.
@@ -388,7 +389,8 @@ func runRestart(ctx context.Context, pr *prepared, k, restart int, seeder seedin
 	o.assign = st.Assign
 	o.distances = st.Distances.Load() + r.distances
 	o.repairs = r.repairs
-	o.cost = pr.exactCost(o.centers, o.assign, k, nil)
+	o.clusterCost = make([]float64, k)
+	o.cost = pr.exactCost(o.centers, o.assign, k, o.clusterCost)
 	o.distances += int64(sp.N)
 	return o, nil
 }

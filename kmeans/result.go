@@ -60,13 +60,13 @@ func (pr *prepared) result(best *outcome, k int, stats Stats) *Result {
 		Assignments: best.assign,
 		Sizes:       make([]int, k),
 		Weights:     make([]float64, k),
-		ClusterCost: make([]float64, k),
+		Cost:        best.cost,
+		ClusterCost: best.clusterCost,
 		Iterations:  best.iterations,
 		Status:      best.status,
 		Stats:       stats,
 	}
 	res.Stats.BestRestart = best.restart
-	res.Cost = pr.exactCost(best.centers, best.assign, k, res.ClusterCost)
 	for i, a := range best.assign {
 		res.Sizes[a]++
 		res.Weights[a] += sp.Weight(i)
