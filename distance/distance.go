@@ -1,25 +1,9 @@
 package distance
 
 import (
-	"errors"
 	"fmt"
 	"math"
-)
-
-// Errors returned by the checked functions of this package. Wrapped errors
-// can be tested with errors.Is.
-var (
-	// ErrLength means two vectors do not have the same length.
-	ErrLength = errors.New("distance: vectors have different lengths")
-	// ErrNotFinite means a vector holds NaN or ±Inf.
-	ErrNotFinite = errors.New("distance: value is NaN or infinite")
-	// ErrZeroVector means a zero vector was given to a metric that needs a
-	// direction (Cosine).
-	ErrZeroVector = errors.New("distance: zero vector has no direction")
-	// ErrUnknown means a metric name is not known to this package.
-	ErrUnknown = errors.New("distance: unknown metric")
-	// ErrParameter means a metric parameter is out of range.
-	ErrParameter = errors.New("distance: invalid metric parameter")
+	"reflect"
 )
 
 const panicLength = "distance: slice lengths differ"
@@ -127,6 +111,12 @@ func (Euclidean) Triangle() bool { return true }
 // Name returns "euclidean".
 func (Euclidean) Name() string { return "euclidean" }
 
+// Homogeneous returns true: d(a·x, a·y) = a·d(x, y) for a > 0.
+func (Euclidean) Homogeneous() bool { return true }
+
+// Arithmetic returns SquaredDifferences.
+func (Euclidean) Arithmetic() Arithmetic { return SquaredDifferences }
+
 // Manhattan is the city-block distance Σ|x_i−y_i|. Its k-means objective is
 // the sum of distances and its center rule the coordinate-wise weighted
 // median (k-medians).
@@ -155,6 +145,12 @@ func (Manhattan) Triangle() bool { return true }
 
 // Name returns "manhattan".
 func (Manhattan) Name() string { return "manhattan" }
+
+// Homogeneous returns true: d(a·x, a·y) = a·d(x, y) for a > 0.
+func (Manhattan) Homogeneous() bool { return true }
+
+// Arithmetic returns AbsoluteDifferences.
+func (Manhattan) Arithmetic() Arithmetic { return AbsoluteDifferences }
 
 // Cosine is the cosine dissimilarity 1 − x·y/(‖x‖‖y‖), in [0, 2]. Its center
 // rule renormalises the mean of the members' unit vectors to unit length
@@ -247,6 +243,12 @@ func (Cosine) CheckRow(x []float64) error {
 // Name returns "cosine".
 func (Cosine) Name() string { return "cosine" }
 
+// Homogeneous returns true: d(a·x, a·y) = 1·d(x, y) for a > 0.
+func (Cosine) Homogeneous() bool { return true }
+
+// Arithmetic returns CosineDissimilarity.
+func (Cosine) Arithmetic() Arithmetic { return CosineDissimilarity }
+
 // Chebyshev is the largest coordinate difference max|x_i−y_i|. It has no
 // k-means center rule; use it to measure, not to cluster.
 type Chebyshev struct{}
@@ -270,6 +272,9 @@ func (Chebyshev) Triangle() bool { return true }
 
 // Name returns "chebyshev".
 func (Chebyshev) Name() string { return "chebyshev" }
+
+// Homogeneous returns true: d(a·x, a·y) = a·d(x, y) for a > 0.
+func (Chebyshev) Homogeneous() bool { return true }
 
 // Minkowski is the distance (Σ|x_i−y_i|^P)^(1/P). P must be positive; it is a
 // true metric (triangle inequality) only for P ≥ 1. P = 1 equals Manhattan,
@@ -330,6 +335,9 @@ func (m Minkowski) Triangle() bool { return m.P >= 1 && m.Validate() == nil }
 // Name returns "minkowski".
 func (Minkowski) Name() string { return "minkowski" }
 
+// Homogeneous returns true: d(a·x, a·y) = a·d(x, y) for a > 0.
+func (Minkowski) Homogeneous() bool { return true }
+
 // Between is the checked form of m.Distance(x, y): it returns an error
 // wrapping ErrLength, ErrNotFinite, ErrParameter or ErrZeroVector instead of
 // panicking or returning a meaningless value.
@@ -351,19 +359,27 @@ func Between(m Metric, x, y []float64) (float64, error) {
 
 // Check returns an error wrapping ErrParameter if m's parameters are invalid
 // or ErrUnknown if m is nil.
+//
+// A metric with parameters reports them by implementing Validator; a nil
+// pointer held in m is reported as ErrUnknown rather than dereferenced.
 func Check(m Metric) error {
-	switch m := m.(type) {
-	case nil:
+	if m == nil {
 		return fmt.Errorf("%w: nil metric", ErrUnknown)
-	case Minkowski:
-		return m.Validate()
-	case *Minkowski:
-		if m == nil {
-			return fmt.Errorf("%w: nil *Minkowski", ErrUnknown)
-		}
-		return m.Validate()
+	}
+	if v := reflect.ValueOf(m); v.Kind() == reflect.Pointer && v.IsNil() {
+		return fmt.Errorf("%w: nil %T", ErrUnknown, m)
+	}
+	if v, ok := m.(Validator); ok {
+		return v.Validate()
 	}
 	return nil
+}
+
+// Validator is implemented by metrics with parameters that can be out of
+// range (Minkowski). Validate returns an error wrapping ErrParameter for
+// invalid parameters.
+type Validator interface {
+	Validate() error
 }
 
 // CheckRow returns an error if x holds NaN or ±Inf (ErrNotFinite), if m's
@@ -410,12 +426,21 @@ func ByName(name string, p ...float64) (Metric, error) {
 }
 
 var (
-	_ Objective  = Euclidean{}
-	_ Objective  = Manhattan{}
-	_ Objective  = Cosine{}
-	_ Triangle   = Euclidean{}
-	_ Triangle   = Manhattan{}
-	_ Triangle   = Chebyshev{}
-	_ Triangle   = Minkowski{}
-	_ RowChecker = Cosine{}
+	_ Objective   = Euclidean{}
+	_ Objective   = Manhattan{}
+	_ Objective   = Cosine{}
+	_ Triangle    = Euclidean{}
+	_ Triangle    = Manhattan{}
+	_ Triangle    = Chebyshev{}
+	_ Triangle    = Minkowski{}
+	_ RowChecker  = Cosine{}
+	_ Validator   = Minkowski{}
+	_ Builtin     = Euclidean{}
+	_ Builtin     = Manhattan{}
+	_ Builtin     = Cosine{}
+	_ Homogeneous = Euclidean{}
+	_ Homogeneous = Manhattan{}
+	_ Homogeneous = Cosine{}
+	_ Homogeneous = Chebyshev{}
+	_ Homogeneous = Minkowski{}
 )

@@ -55,9 +55,7 @@ func choose(sp *Space, k int) Method {
 	if t, ok := sp.Metric.(distance.Triangle); !ok || !t.Triangle() || k == 1 {
 		return Lloyd{}
 	}
-	switch sp.Metric.(type) {
-	case distance.Euclidean, distance.Manhattan:
-	default:
+	if a := sp.arith; a != distance.SquaredDifferences && a != distance.AbsoluteDifferences {
 		return Lloyd{}
 	}
 	n, d := int64(sp.N), int64(sp.D)

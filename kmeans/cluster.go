@@ -4,13 +4,11 @@ import (
 	"context"
 	"errors"
 	"fmt"
-	"github.com/centroidlab/centroid/internal/rowset"
 	"math"
 	"math/rand/v2"
 	"sync"
 
-	"github.com/centroidlab/centroid/distance"
-	"github.com/centroidlab/centroid/scale"
+	"github.com/centroidlab/centroid/internal/check"
 	"github.com/centroidlab/centroid/seeding"
 	"gonum.org/v1/gonum/mat"
 )
@@ -33,23 +31,26 @@ import (
 // ErrWeights, ErrMetric, ErrSettings or ErrSeeding. Cluster never modifies
 // p.Data, p.Weights or p.Scaler.
 func Cluster(ctx context.Context, p Problem, s *Settings, m Method) (*Result, error) {
-	set, err := s.resolved()
+	set, err := s.Resolve()
 	if err != nil {
 		return nil, err
 	}
-	pr, err := prepare(p)
+	if p.K < 1 {
+		return nil, fmt.Errorf("%w: K = %d", ErrK, p.K)
+	}
+	sp, err := NewSpace(p)
 	if err != nil {
 		return nil, err
 	}
 	if m == nil {
-		m = choose(pr.sp, p.K)
+		m = choose(sp, p.K)
 	}
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}
 
 	conc := min(set.Restarts, set.Workers)
-	pr.sp.workers = max(1, set.Workers/conc)
+	sp.workers = max(1, set.Workers/conc)
 	seeder := p.Seeder
 	if seeder == nil {
 		seeder = seeding.PlusPlus{}
@@ -78,7 +79,7 @@ func Cluster(ctx context.Context, p Problem, s *Settings, m Method) (*Result, er
 			if ctx.Err() != nil {
 				return
 			}
-			o, err := runRestart(ctx, pr, p.K, r, seeder, m, set, progress)
+			o, err := runRestart(ctx, sp, p.K, r, seeder, m, set, progress)
 			mu.Lock()
 			defer mu.Unlock()
 			if err != nil {
@@ -105,7 +106,7 @@ func Cluster(ctx context.Context, p Problem, s *Settings, m Method) (*Result, er
 		return nil, ctx.Err()
 	}
 	stats.Method = methodName(m)
-	res := pr.result(best, p.K, stats)
+	res := sp.result(best, p.K, stats)
 	if p.Features != nil {
 		m, err := res.Model.WithFeatures(p.Features)
 		if err != nil {
@@ -118,146 +119,6 @@ func Cluster(ctx context.Context, p Problem, s *Settings, m Method) (*Result, er
 		return res, cerr
 	}
 	return res, nil
-}
-
-// prepared is a validated problem with its clustering space.
-type prepared struct {
-	sp     *Space
-	metric distance.Objective
-	scaler scale.Scaler // learned, or nil
-}
-
-func prepare(p Problem) (*prepared, error) {
-	if p.Data == nil {
-		return nil, fmt.Errorf("%w: nil matrix", ErrData)
-	}
-	n, d := p.Data.Dims()
-	if n == 0 || d == 0 {
-		return nil, fmt.Errorf("%w: %d×%d matrix", ErrData, n, d)
-	}
-	if p.K < 1 || p.K > n {
-		return nil, fmt.Errorf("%w: K = %d with %d rows", ErrK, p.K, n)
-	}
-	metric := p.Metric
-	if metric == nil {
-		metric = distance.Euclidean{}
-	}
-	if err := distance.Check(metric); err != nil {
-		return nil, fmt.Errorf("%w: %w", ErrMetric, err)
-	}
-	obj, ok := metric.(distance.Objective)
-	if !ok {
-		return nil, fmt.Errorf("%w: %s has no k-means center rule (use Euclidean, Manhattan or Cosine)", ErrMetric, metric.Name())
-	}
-	if p.Features != nil {
-		if _, err := checkFeatures(p.Features, d); err != nil {
-			return nil, err
-		}
-	}
-	if err := checkWeights(p.Weights, n); err != nil {
-		return nil, err
-	}
-	x, err := rows(p.Data)
-	if err != nil {
-		return nil, err
-	}
-	pr := &prepared{metric: obj}
-	if p.Scaler != nil {
-		learned, err := p.Scaler.Learn(p.Data, p.Weights)
-		if err != nil {
-			return nil, fmt.Errorf("%w: scaler: %w", ErrData, err)
-		}
-		if learned.Dim() != d {
-			return nil, fmt.Errorf("%w: scaler learned %d columns, data has %d", ErrData, learned.Dim(), d)
-		}
-		scaled := make([]float64, n*d)
-		for i := range n {
-			learned.Apply(scaled[i*d:(i+1)*d], x[i*d:(i+1)*d])
-		}
-		if err := checkFinite(scaled, d); err != nil {
-			return nil, fmt.Errorf("%w after scaling", err)
-		}
-		x = scaled
-		pr.scaler = learned
-	}
-	if rc, ok := metric.(distance.RowChecker); ok {
-		for i := range n {
-			if err := rc.CheckRow(x[i*d : (i+1)*d]); err != nil {
-				return nil, fmt.Errorf("%w: row %d: %w", ErrMetric, i, err)
-			}
-		}
-	}
-	if distinct := countDistinct(x, n, d, p.Weights, p.K); distinct < p.K {
-		return nil, fmt.Errorf("%w: K = %d but only %d distinct rows with positive weight", ErrK, p.K, distinct)
-	}
-	pr.sp = newSpace(x, n, d, p.Weights, obj, 1)
-	return pr, nil
-}
-
-// rows returns the data row-major without copying when possible, after
-// checking every value is finite.
-func rows(a mat.Matrix) ([]float64, error) {
-	n, d := a.Dims()
-	var x []float64
-	if rm, ok := a.(mat.RawMatrixer); ok {
-		raw := rm.RawMatrix()
-		if raw.Stride == d {
-			x = raw.Data[:n*d]
-		} else {
-			x = make([]float64, n*d)
-			for i := range n {
-				copy(x[i*d:(i+1)*d], raw.Data[i*raw.Stride:i*raw.Stride+d])
-			}
-		}
-	} else {
-		x = make([]float64, n*d)
-		for i := range n {
-			for j := range d {
-				x[i*d+j] = a.At(i, j)
-			}
-		}
-	}
-	return x, checkFinite(x, d)
-}
-
-func checkFinite(x []float64, d int) error {
-	for i, v := range x {
-		if math.IsNaN(v) || math.IsInf(v, 0) {
-			return fmt.Errorf("%w: row %d column %d is %v", ErrData, i/d, i%d, v)
-		}
-	}
-	return nil
-}
-
-func checkWeights(w []float64, n int) error {
-	if w == nil {
-		return nil
-	}
-	if len(w) != n {
-		return fmt.Errorf("%w: %d weights for %d rows", ErrWeights, len(w), n)
-	}
-	var sum float64
-	for i, v := range w {
-		if !(v >= 0) || math.IsInf(v, 1) {
-			return fmt.Errorf("%w: weight %d is %v", ErrWeights, i, v)
-		}
-		sum += v
-	}
-	if !(sum > 0) || math.IsInf(sum, 1) {
-		return fmt.Errorf("%w: weights sum to %v", ErrWeights, sum)
-	}
-	return nil
-}
-
-// countDistinct counts distinct rows of positive weight, stopping at limit.
-func countDistinct(x []float64, n, d int, w []float64, limit int) int {
-	set := rowset.New(limit)
-	for i := 0; i < n && set.Len() < limit; i++ {
-		if w == nil || w[i] > 0 {
-			set.Add(x[i*d : (i+1)*d])
-		}
-	}
-	return set.Len()
 }
 
 // outcome is the end state of one restart.
@@ -283,35 +144,24 @@ type run struct {
 	repairs   int
 }
 
-func runRestart(ctx context.Context, pr *prepared, k, restart int, seeder seeding.Seeder, m Method, set Settings, progress func(Progress)) (*outcome, error) {
-	sp := pr.sp
+func runRestart(ctx context.Context, sp *Space, k, restart int, seeder seeding.Seeder, m Method, set Settings, progress func(Progress)) (*outcome, error) {
 	d := sp.D
 	rnd := rand.New(rand.NewPCG(set.Seed, uint64(restart)))
 	centers := mat.NewDense(k, d, nil)
-	// k-means++ runs on this restart's goroutines unless told otherwise;
-	// its centers do not depend on the number.
-	switch pp := seeder.(type) {
-	case seeding.PlusPlus:
-		if pp.Workers == 0 {
-			pp.Workers = sp.Workers()
-			seeder = pp
-		}
-	case *seeding.PlusPlus:
-		if pp != nil && pp.Workers == 0 {
-			c := *pp
-			c.Workers = sp.Workers()
-			seeder = c
-		}
+	// A parallel seeder runs on this restart's goroutines unless told
+	// otherwise; its centers do not depend on the number.
+	if ps, ok := seeder.(seeding.Parallel); ok {
+		seeder = ps.WithWorkers(sp.Workers())
 	}
-	if err := seeder.Seed(centers, mat.NewDense(sp.N, d, sp.X), sp.W, pr.metric, rnd); err != nil {
+	if err := seeder.Seed(centers, mat.NewDense(sp.N, d, sp.X), sp.W, sp.Metric, rnd); err != nil {
 		if errors.Is(err, seeding.ErrK) {
 			return nil, fmt.Errorf("%w: %w", ErrK, err)
 		}
 		return nil, fmt.Errorf("%w: %w", ErrSeeding, err)
 	}
 	cur := centers.RawMatrix().Data
-	if err := checkFinite(cur, d); err != nil {
-		return nil, fmt.Errorf("%w: seeder returned %w", ErrSeeding, err)
+	if err := check.Finite(cur, d, ErrSeeding); err != nil {
+		return nil, fmt.Errorf("seeder returned %w", err)
 	}
 	if sp.invNorm != nil {
 		for j := range k {
@@ -390,7 +240,7 @@ func runRestart(ctx context.Context, pr *prepared, k, restart int, seeder seedin
 	o.distances = st.Distances.Load() + r.distances
 	o.repairs = r.repairs
 	o.clusterCost = make([]float64, k)
-	o.cost = pr.exactCost(o.centers, o.assign, k, o.clusterCost)
+	o.cost = sp.exactCost(o.centers, o.assign, k, o.clusterCost)
 	o.distances += int64(sp.N)
 	return o, nil
 }
@@ -399,8 +249,7 @@ func runRestart(ctx context.Context, pr *prepared, k, restart int, seeder seedin
 // reduced in block order; if perCluster is not nil it receives the cost of
 // each cluster. Every Method's result is scored by this one function so
 // that equal assignments give equal bits.
-func (pr *prepared) exactCost(centers []float64, assign []int, k int, perCluster []float64) float64 {
-	sp := pr.sp
+func (sp *Space) exactCost(centers []float64, assign []int, k int, perCluster []float64) float64 {
 	d := sp.D
 	parts := make([][]float64, sp.Blocks())
 	sp.Parallel(func(b int) {

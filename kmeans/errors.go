@@ -1,6 +1,9 @@
 package kmeans
 
-import "errors"
+import (
+	"errors"
+	"fmt"
+)
 
 // Errors returned by this package. Every error returned for bad input wraps
 // one of them, so callers can test with errors.Is.
@@ -29,4 +32,25 @@ var (
 	ErrModel = errors.New("kmeans: invalid model")
 	// ErrSeeding means the seeder failed or returned unusable centers.
 	ErrSeeding = errors.New("kmeans: seeding failed")
+	// ErrSchema means feature names are invalid (wrong count, empty,
+	// repeated, or holding characters a name may not hold) or a row given
+	// by name does not match a model's schema.
+	ErrSchema = errors.New("kmeans: schema mismatch")
+	// ErrIterationLimit is Status.Err for IterationLimit: a restart ran
+	// Settings.MaxIterations passes without reaching a fixed point.
+	ErrIterationLimit = errors.New("kmeans: iteration limit reached before convergence")
+	// ErrNotTerminated is Status.Err for a run that has not stopped.
+	ErrNotTerminated = errors.New("kmeans: run not terminated")
+)
+
+// Errors of the model document, each also matched by errors.Is(err,
+// ErrModel).
+var (
+	// ErrChecksum means a version 2 document's checksum is missing,
+	// malformed or does not match its content.
+	ErrChecksum = fmt.Errorf("%w: checksum mismatch", ErrModel)
+	// ErrTooLarge means a document exceeds the DecodeLimits (bytes or k·d).
+	ErrTooLarge = fmt.Errorf("%w: document too large", ErrModel)
+	// ErrVersion means a document has a version this build does not read.
+	ErrVersion = fmt.Errorf("%w: unsupported version", ErrModel)
 )

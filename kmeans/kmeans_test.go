@@ -10,7 +10,7 @@ import (
 	"testing"
 
 	"github.com/centroidlab/centroid/distance"
-	"github.com/centroidlab/centroid/internal/dataset"
+	"github.com/centroidlab/centroid/internal/data/reference"
 	"github.com/centroidlab/centroid/scale"
 	"github.com/centroidlab/centroid/seeding"
 	"github.com/stretchr/testify/assert"
@@ -25,7 +25,7 @@ import (
 // reproduced by an independent implementation according to the shared
 // PROVENANCE.md.
 func TestIrisReference(t *testing.T) {
-	s := dataset.LoadOrSkip(t, "iris")
+	s := reference.LoadOrSkip(t, "iris")
 	res, err := Cluster(context.Background(), Problem{Data: s.X, K: 3}, &Settings{Restarts: 10}, Lloyd{})
 	require.NoError(t, err)
 	assert.InEpsilon(t, 78.851441, res.Cost, 1e-6)
@@ -48,8 +48,8 @@ func TestIrisReference(t *testing.T) {
 func TestSSetsCentroidIndex(t *testing.T) {
 	for _, name := range []string{"s1", "s2", "s3", "s4"} {
 		t.Run(name, func(t *testing.T) {
-			s := dataset.LoadOrSkip(t, name)
-			cb := dataset.LoadOrSkip(t, name+"-cb")
+			s := reference.LoadOrSkip(t, name)
+			cb := reference.LoadOrSkip(t, name+"-cb")
 			res, err := Cluster(context.Background(), Problem{Data: s.X, K: 15}, nil, nil)
 			require.NoError(t, err)
 			found := res.Model.Centers()

@@ -76,7 +76,7 @@ var _ Method = Lloyd{}
 // Start returns Lloyd's per-restart state (packed centers and scratch
 // under Euclidean, nothing otherwise).
 func (Lloyd) Start(sp *Space, k int) (Pass, error) {
-	if _, ok := sp.Metric.(distance.Euclidean); ok {
+	if sp.arith == distance.SquaredDifferences {
 		return &lloydKernel{sp: sp, k: k}, nil
 	}
 	return lloydPass{sp: sp, k: k}, nil

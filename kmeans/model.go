@@ -31,7 +31,7 @@ type Model struct {
 	scaler  scale.Scaler
 	shift   []float64 // affine scaler: z = (x − shift)/div
 	div     []float64
-	pool    *sync.Pool   // *[]float64 scratch of length d, for the general path
+	pool    *sync.Pool   // *[]float64 scratch of length 2d (raw row, scaled row), for the general path
 	index   *searchIndex // nil: scan every center
 
 	// Document content (see model_file.go).
@@ -61,12 +61,12 @@ const (
 
 func newModel(centers []float64, k, d int, metric distance.Objective, sc scale.Scaler) *Model {
 	m := &Model{k: k, d: d, centers: append([]float64(nil), centers...), metric: metric, scaler: sc, library: LibraryVersion, digest: new(digest)}
-	switch metric.(type) {
-	case distance.Euclidean:
+	switch distance.ArithmeticOf(metric) {
+	case distance.SquaredDifferences:
 		m.kind = euclidean
-	case distance.Manhattan:
+	case distance.AbsoluteDifferences:
 		m.kind = manhattan
-	case distance.Cosine:
+	case distance.CosineDissimilarity:
 		m.kind = cosine
 	}
 	if a, ok := sc.(scale.Affine); ok {
@@ -83,7 +83,7 @@ func newModel(centers []float64, k, d int, metric distance.Objective, sc scale.S
 	if m.kind == euclidean || m.kind == manhattan {
 		m.index = newSearchIndex(m.centers, k, d, m.kind)
 	}
-	m.pool = &sync.Pool{New: func() any { s := make([]float64, d); return &s }}
+	m.pool = &sync.Pool{New: func() any { s := make([]float64, 2*d); return &s }}
 	return m
 }
 
@@ -196,19 +196,23 @@ func (m *Model) locate(x []float64, second bool) (int, float64, float64, error) 
 			return m.locateKnown(buf[:m.d], x, second)
 		}
 	}
-	p := m.pool.Get().(*[]float64)
-	defer m.pool.Put(p)
-	z := *p
 	if err := checkFinite1(x, ""); err != nil {
 		return -1, 0, 0, err
 	}
+	// The row is copied before any interface call (Scaler.Apply,
+	// Metric.Loss), so that x never escapes: callers may pass a stack
+	// buffer without an allocation.
+	p := m.pool.Get().(*[]float64)
+	defer m.pool.Put(p)
+	raw, z := (*p)[:m.d], (*p)[m.d:]
+	copy(raw, x)
 	if m.scaler != nil {
-		m.scaler.Apply(z, x)
+		m.scaler.Apply(z, raw)
 		if err := checkFinite1(z, " after scaling"); err != nil {
 			return -1, 0, 0, err
 		}
 	} else {
-		copy(z, x)
+		copy(z, raw)
 	}
 	if m.kind != otherMetric {
 		return m.searchKnown(z, second)
@@ -743,3 +747,7 @@ func b2i(b bool) int {
 	}
 	return 0
 }
+
+// HasSchema reports whether the model carries feature names (see
+// WithFeatures), which rows given by name need.
+func (m *Model) HasSchema() bool { return m != nil && m.columns != nil }

@@ -30,18 +30,6 @@ const (
 	ModelVersion = 2 // version written by MarshalJSON
 )
 
-// Errors of the model document, each also matched by errors.Is(err,
-// ErrModel).
-var (
-	// ErrChecksum means a version 2 document's checksum is missing,
-	// malformed or does not match its content.
-	ErrChecksum = fmt.Errorf("%w: checksum mismatch", ErrModel)
-	// ErrTooLarge means a document exceeds the DecodeLimits (bytes or k·d).
-	ErrTooLarge = fmt.Errorf("%w: document too large", ErrModel)
-	// ErrVersion means a document has a version this build does not read.
-	ErrVersion = fmt.Errorf("%w: unsupported version", ErrModel)
-)
-
 // Default decoding limits (see DecodeLimits).
 const (
 	DefaultMaxModelBytes  = 64 << 20 // 64 MiB

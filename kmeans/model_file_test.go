@@ -14,7 +14,7 @@ import (
 	"time"
 
 	"github.com/centroidlab/centroid/distance"
-	"github.com/centroidlab/centroid/internal/bikeshare"
+	"github.com/centroidlab/centroid/internal/data/bikeshare"
 	"github.com/centroidlab/centroid/scale"
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"

@@ -54,8 +54,7 @@ type Stats struct {
 	Method string
 }
 
-func (pr *prepared) result(best *outcome, k int, stats Stats) *Result {
-	sp := pr.sp
+func (sp *Space) result(best *outcome, k int, stats Stats) *Result {
 	res := &Result{
 		Assignments: best.assign,
 		Sizes:       make([]int, k),
@@ -71,8 +70,8 @@ func (pr *prepared) result(best *outcome, k int, stats Stats) *Result {
 		res.Sizes[a]++
 		res.Weights[a] += sp.Weight(i)
 	}
-	res.Model = newModel(best.centers, k, sp.D, pr.metric, pr.scaler)
-	res.Model.training = pr.training(res.Model.centers, best.assign, k, res)
+	res.Model = newModel(best.centers, k, sp.D, sp.Metric, sp.Scaler)
+	res.Model.training = sp.training(res.Model.centers, best.assign, k, res)
 	return res
 }
 
@@ -85,15 +84,14 @@ var quantileLevels = [...]float64{50, 90, 99}
 // more (these evaluations are not counted in Stats.Distances, which counts
 // the search), in parallel over the fixed blocks, and sorts each cluster's
 // distances.
-func (pr *prepared) training(centers []float64, assign []int, k int, res *Result) *Training {
-	sp := pr.sp
+func (sp *Space) training(centers []float64, assign []int, k int, res *Result) *Training {
 	d := sp.D
 	dist := make([]float64, sp.N)
 	sp.Parallel(func(b int) {
 		lo, hi := sp.Block(b)
 		for i := lo; i < hi; i++ {
 			a := assign[i]
-			dist[i] = pr.metric.Distance(sp.Row(i), centers[a*d:(a+1)*d])
+			dist[i] = sp.Metric.Distance(sp.Row(i), centers[a*d:(a+1)*d])
 		}
 	})
 	// Group the rows of positive weight by cluster (counting sort).

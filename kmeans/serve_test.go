@@ -5,13 +5,10 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
-	"runtime"
-	"sync"
-	"sync/atomic"
 	"testing"
 
 	"github.com/centroidlab/centroid/distance"
-	"github.com/centroidlab/centroid/internal/bikeshare"
+	"github.com/centroidlab/centroid/internal/data/bikeshare"
 	"github.com/centroidlab/centroid/scale"
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
@@ -248,175 +245,23 @@ func mustZScore(t *testing.T, x mat.Matrix) scale.Scaler {
 	return s
 }
 
-// TestServeAllocs checks that the vector and named-field paths allocate
-// nothing.
-func TestServeAllocs(t *testing.T) {
-	for _, d := range []int{6, 40} {
-		x := blobs(300, d, 5, 4)
-		names := make([]string, d)
-		for i := range names {
-			names[i] = fmt.Sprintf("f%02d", i)
-		}
-		for _, sc := range []scale.Scaler{nil, &scale.ZScore{}} {
-			res, err := Cluster(context.Background(), Problem{Data: x, K: 5, Scaler: sc}, &Settings{Restarts: 1}, nil)
-			require.NoError(t, err)
-			m, err := res.Model.WithFeatures(names)
-			require.NoError(t, err)
-			row := x.RawRowView(7)
-			rec := make(Record, d)
-			fields := make(map[string]float64, d)
-			for i, name := range names {
-				rec[i] = Field{name, row[i]}
-				fields[name] = row[i]
-			}
-			batch := mat.NewDense(20, d, x.RawMatrix().Data[:20*d])
-			dst := make([]Assignment, 20)
-			labels := make([]int, 20)
-			dr, err := NewDrift(m)
-			require.NoError(t, err)
-			var sink Assignment
-			calls := map[string]func(){
-				"Nearest":      func() { sink.Cluster, sink.Distance, _ = m.Nearest(row) },
-				"Assign":       func() { sink, _ = m.Assign(row) },
-				"AssignRecord": func() { sink, _ = m.AssignRecord(rec) },
-				"AssignMap":    func() { sink, _ = m.AssignMap(fields) },
-				"AssignBatch":  func() { _ = m.AssignBatch(dst, batch) },
-				"NearestBatch": func() { _ = m.NearestBatch(labels, nil, batch) },
-				"Observe":      func() { dr.Observe(sink) },
-				"ObserveBatch": func() { dr.ObserveBatch(dst) },
-			}
-			for name, call := range calls {
-				assert.Zero(t, testing.AllocsPerRun(50, call), "%s d=%d scaler=%v", name, d, sc)
-			}
-			want, err := m.Assign(row)
-			require.NoError(t, err)
-			for _, got := range []func() (Assignment, error){
-				func() (Assignment, error) { return m.AssignRecord(rec) },
-				func() (Assignment, error) { return m.AssignMap(fields) },
-			} {
-				a, err := got()
-				require.NoError(t, err)
-				require.Equal(t, want, a)
-			}
-		}
-	}
-}
-
-// TestHolderSwapUnderLoad has readers label probe rows while a writer
-// swaps between two models whose answers differ on every probe; each
-// reader's answers must all come from the model it loaded.
-func TestHolderSwapUnderLoad(t *testing.T) {
-	_, x := bikeshare.Generate(300, 8)
-	resA, err := Cluster(context.Background(), Problem{Data: x, K: 4, Scaler: &scale.ZScore{}}, &Settings{Restarts: 2, Seed: 1}, nil)
-	require.NoError(t, err)
-	resB, err := Cluster(context.Background(), Problem{Data: x, K: 7, Scaler: &scale.MinMax{}}, &Settings{Restarts: 2, Seed: 2}, nil)
-	require.NoError(t, err)
-	a, b := resA.Model, resB.Model
-	probes := bikeshare.NewStations(64, 4)
-	answers := map[*Model][]Assignment{}
-	for _, m := range []*Model{a, b} {
-		for _, p := range probes {
-			as, err := m.Assign(p.Features)
-			require.NoError(t, err)
-			answers[m] = append(answers[m], as)
-		}
-	}
-	// The two models must be told apart by every probe.
-	for i := range probes {
-		require.NotEqual(t, answers[a][i].Distance, answers[b][i].Distance, "probe %d", i)
-	}
-
-	var h Holder
-	assert.Nil(t, h.Load())
-	assert.Nil(t, h.Model())
-	_, err = h.Swap(a)
-	require.NoError(t, err)
-
-	readers, swaps := 8, 2000
-	if testing.Short() {
-		swaps = 300
-	}
-	var stop atomic.Bool
-	var wrong, reads atomic.Int64
-	var wg sync.WaitGroup
-	for r := range readers {
-		wg.Go(func() {
-			for i := r; !stop.Load(); i++ {
-				s := h.Load()
-				want := answers[s.Model]
-				for p := range probes {
-					got, err := s.Model.Assign(probes[(i+p)%len(probes)].Features)
-					if err != nil || got != want[(i+p)%len(probes)] {
-						wrong.Add(1)
-					}
-				}
-				reads.Add(1)
-			}
-		})
-	}
-	for i := range swaps {
-		next := a
-		if i%2 == 0 {
-			next = b
-		}
-		_, err := h.Swap(next)
-		require.NoError(t, err)
-	}
-	// On a busy machine the swaps can finish before every reader has been
-	// scheduled; let each reader complete some reads before stopping.
-	for reads.Load() < int64(4*readers) {
-		runtime.Gosched()
-	}
-	stop.Store(true)
-	wg.Wait()
-	assert.Zero(t, wrong.Load())
-	assert.GreaterOrEqual(t, reads.Load(), int64(4*readers))
-}
-
-func TestHolderRefuses(t *testing.T) {
-	_, x := bikeshare.Generate(200, 8)
-	res, err := Cluster(context.Background(), Problem{Data: x, K: 3}, &Settings{Restarts: 1}, nil)
-	require.NoError(t, err)
-	named, err := res.Model.WithFeatures(bikeshare.Features())
-	require.NoError(t, err)
-	other := bikeshare.Features()
-	other[0] = "trips_per_week"
-	renamed, err := res.Model.WithFeatures(other)
-	require.NoError(t, err)
-
-	h := Holder{Accept: SameSchema}
-	_, err = h.Swap(nil)
-	require.ErrorIs(t, err, ErrModel)
-	_, err = h.Swap(&Model{})
-	require.ErrorIs(t, err, ErrModel)
-	prev, err := h.Swap(named)
-	require.NoError(t, err)
-	assert.Nil(t, prev)
-	for name, bad := range map[string]*Model{"renamed": renamed, "unnamed": res.Model} {
-		_, err = h.Swap(bad)
-		require.ErrorIs(t, err, ErrSchema, name)
-		assert.Same(t, named, h.Model(), "a refused swap keeps the old model")
-	}
-	s := h.Load()
-	sum, err := named.Checksum()
-	require.NoError(t, err)
-	assert.Equal(t, sum, s.Checksum)
-	assert.NotNil(t, s.Drift)
-	prev, err = h.Swap(named.WithCreated(s.Since))
-	require.NoError(t, err)
-	assert.Same(t, s, prev)
-}
-
-// wrappedEuclidean is a metric the model does not recognise, to exercise
-// the path through the metric's methods.
+// wrappedEuclidean embeds Euclidean and so keeps its fast paths
+// (distance.Builtin is promoted).
 type wrappedEuclidean struct{ distance.Euclidean }
+
+// customEuclidean computes the Euclidean distance but promises no built-in
+// arithmetic, to exercise the path through the metric's methods.
+type customEuclidean struct{ distance.Euclidean }
+
+func (customEuclidean) Arithmetic() distance.Arithmetic { return distance.Custom }
 
 func TestSearchOtherMetric(t *testing.T) {
 	for _, c := range searchCases() {
 		if c.metric.Name() != "euclidean" {
 			continue
 		}
-		m := newModel(c.centers, c.k, c.d, wrappedEuclidean{}, nil)
+		require.Equal(t, euclidean, newModel(c.centers, c.k, c.d, wrappedEuclidean{}, nil).kind, "a wrapped Euclidean keeps the fast path")
+		m := newModel(c.centers, c.k, c.d, customEuclidean{}, nil)
 		require.Equal(t, otherMetric, m.kind)
 		for qi, q := range c.queries {
 			want := scanAssign(distance.Euclidean{}, nil, c.centers, c.k, q)

@@ -1,6 +1,7 @@
 package kmeans
 
 import (
+	"context"
 	"fmt"
 	"math"
 	"runtime"
@@ -82,7 +83,11 @@ type Progress struct {
 	Moved     int     // rows whose cluster changed (all rows on the first pass)
 }
 
-func (s *Settings) resolved() (Settings, error) {
+// Resolve returns a copy of s (nil means the zero Settings) with every
+// zero field replaced by its default, or an error wrapping ErrSettings if a
+// field is out of range. Cluster calls it; code that runs many clusterings
+// with one Settings (choosing k, streaming) calls it once.
+func (s *Settings) Resolve() (Settings, error) {
 	var r Settings
 	if s != nil {
 		r = *s
@@ -147,3 +152,20 @@ func (s Status) String() string {
 // Stopped reports whether the run reached a normal stop (Converged or
 // CostTolerance).
 func (s Status) Stopped() bool { return s == Converged || s == CostTolerance }
+
+// Err returns nil for a normal stop (Converged, CostTolerance) and an
+// error otherwise: wrapping ErrIterationLimit for IterationLimit,
+// context.Canceled for Canceled, and ErrNotTerminated for NotTerminated or
+// an unknown value. A caller that must have a fixed point can write
+// `if err := res.Status.Err(); err != nil`.
+func (s Status) Err() error {
+	switch s {
+	case Converged, CostTolerance:
+		return nil
+	case IterationLimit:
+		return ErrIterationLimit
+	case Canceled:
+		return fmt.Errorf("kmeans: %w", context.Canceled)
+	}
+	return fmt.Errorf("%w: %v", ErrNotTerminated, s)
+}

@@ -5,8 +5,8 @@ import (
 	"fmt"
 	"testing"
 
-	"github.com/centroidlab/centroid/internal/dataset"
-	"github.com/centroidlab/centroid/internal/synth"
+	"github.com/centroidlab/centroid/internal/data/reference"
+	"github.com/centroidlab/centroid/internal/data/synth"
 	"gonum.org/v1/gonum/mat"
 )
 
@@ -40,7 +40,7 @@ func BenchmarkSolversDatasets(b *testing.B) {
 	}{{"s1", 15}, {"s2", 15}, {"s3", 15}, {"s4", 15}, {"a1", 20}, {"a2", 35}, {"a3", 50}, {"unbalance", 8}, {"letter", 26}}
 	for _, set := range sets {
 		b.Run(set.name, func(b *testing.B) {
-			s := dataset.LoadOrSkip(b, set.name)
+			s := reference.LoadOrSkip(b, set.name)
 			for _, m := range benchMethods {
 				b.Run(methodName(m), func(b *testing.B) { benchmarkCluster(b, s.X, set.k, 0, 0, m) })
 			}

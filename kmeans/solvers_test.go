@@ -9,8 +9,8 @@ import (
 	"testing"
 
 	"github.com/centroidlab/centroid/distance"
-	"github.com/centroidlab/centroid/internal/bikeshare"
-	"github.com/centroidlab/centroid/internal/dataset"
+	"github.com/centroidlab/centroid/internal/data/bikeshare"
+	"github.com/centroidlab/centroid/internal/data/reference"
 	"github.com/centroidlab/centroid/scale"
 	"github.com/centroidlab/centroid/seeding"
 	"github.com/stretchr/testify/assert"
@@ -76,13 +76,13 @@ func TestSolversEqualLloydDatasets(t *testing.T) {
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
-			s := dataset.LoadOrSkip(t, c.name)
+			s := reference.LoadOrSkip(t, c.name)
 			sameAsLloyd(t, Problem{Data: s.X, K: c.k}, Settings{Restarts: c.restarts, MaxIterations: c.maxIter, Seed: 3})
 		})
 	}
 	// Manhattan (k-medians) on one set with every method.
 	t.Run("a1-manhattan", func(t *testing.T) {
-		s := dataset.LoadOrSkip(t, "a1")
+		s := reference.LoadOrSkip(t, "a1")
 		sameAsLloyd(t, Problem{Data: s.X, K: 20, Metric: distance.Manhattan{}}, Settings{Restarts: 2, Seed: 4})
 	})
 }
@@ -171,7 +171,7 @@ func TestSolversNeedTriangle(t *testing.T) {
 // 150 points; shared a3.csv) the bound solvers must evaluate far fewer
 // row–center distances than Lloyd for the same result.
 func TestSolversSaveDistances(t *testing.T) {
-	s := dataset.LoadOrSkip(t, "a3")
+	s := reference.LoadOrSkip(t, "a3")
 	p := Problem{Data: s.X, K: 50}
 	set := &Settings{Restarts: 1, Seed: 1}
 	ref, err := Cluster(context.Background(), p, set, Lloyd{})

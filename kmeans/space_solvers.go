@@ -116,10 +116,10 @@ func newBounds(sp *Space, k int, name string) (*bounds, error) {
 		return nil, fmt.Errorf("%w: %s needs a metric with the triangle inequality, %s has none (use Lloyd)", ErrMetric, name, sp.Metric.Name())
 	}
 	b := &bounds{sp: sp, k: k, d: sp.D, rounding: newRounding(sp.D), move: make([]float64, k), half: make([]float64, k*k), nearestHalf: make([]float64, k)}
-	switch sp.Metric.(type) {
-	case distance.Euclidean:
+	switch sp.arith {
+	case distance.SquaredDifferences:
 		b.euclid = true
-	case distance.Manhattan:
+	case distance.AbsoluteDifferences:
 	default:
 		return nil, fmt.Errorf("%w: %s supports Euclidean and Manhattan, not %s (use Lloyd)", ErrMetric, name, sp.Metric.Name())
 	}

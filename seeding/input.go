@@ -162,11 +162,11 @@ func pick(cum []float64, rnd *rand.Rand) int {
 // lossFunc returns the per-row loss k-means++ samples by: the metric's Loss
 // when it is an Objective, else its squared Distance.
 func lossFunc(m distance.Metric) func(x, c []float64) float64 {
-	switch m := m.(type) {
-	case distance.Euclidean:
+	if distance.ArithmeticOf(m) == distance.SquaredDifferences {
 		return distance.SqEuclidean
-	case distance.Objective:
-		return m.Loss
+	}
+	if o, ok := m.(distance.Objective); ok {
+		return o.Loss
 	}
 	return func(x, c []float64) float64 {
 		v := m.Distance(x, c)

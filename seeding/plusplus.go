@@ -56,6 +56,17 @@ type PlusPlus struct {
 	Workers int
 }
 
+// WithWorkers returns p with Workers = n if p.Workers is zero, else p
+// (see Parallel).
+func (p PlusPlus) WithWorkers(n int) Seeder {
+	if p.Workers == 0 {
+		p.Workers = n
+	}
+	return p
+}
+
+var _ Parallel = PlusPlus{}
+
 // candidates returns the number of draws per step for k centers.
 func (p PlusPlus) candidates(k int) int {
 	if p.Candidates > 0 {
@@ -64,11 +75,10 @@ func (p PlusPlus) candidates(k int) int {
 	return 2 + int(math.Log(float64(k)))
 }
 
-// isEuclidean reports whether m is distance.Euclidean, whose loss
-// sqEuclidean2 computes two at a time.
+// isEuclidean reports whether m's loss is the squared Euclidean distance,
+// which sqEuclidean2 computes two at a time.
 func isEuclidean(m distance.Metric) bool {
-	_, ok := m.(distance.Euclidean)
-	return ok
+	return distance.ArithmeticOf(m) == distance.SquaredDifferences
 }
 
 // Seed implements Seeder.

@@ -9,7 +9,7 @@ import (
 	"github.com/stretchr/testify/require"
 	"gonum.org/v1/gonum/mat"
 
-	"github.com/centroidlab/centroid/internal/dataset"
+	"github.com/centroidlab/centroid/internal/data/reference"
 )
 
 func TestCentroidIndexBadInput(t *testing.T) {
@@ -102,8 +102,8 @@ func TestCentroidIndexIdenticalAndScaleFree(t *testing.T) {
 // PROVENANCE.md states that each cb row is nearest to the mean of exactly
 // that label, so the centroid index (Fränti, Rezaei & Zhao 2014) is 0.
 func TestCentroidIndexS1(t *testing.T) {
-	cb := dataset.LoadOrSkip(t, "s1-cb").X
-	s1 := dataset.LoadOrSkip(t, "s1")
+	cb := reference.LoadOrSkip(t, "s1-cb").X
+	s1 := reference.LoadOrSkip(t, "s1")
 	k, d := cb.Dims()
 	require.Equal(t, 15, k)
 	means := mat.NewDense(k, d, nil)

@@ -11,7 +11,7 @@ import (
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
 
-	"github.com/centroidlab/centroid/internal/dataset"
+	"github.com/centroidlab/centroid/internal/data/reference"
 )
 
 // labelIndex is one external index seen as a function of two labellings.
@@ -293,7 +293,7 @@ func TestExternalWorkedExample(t *testing.T) {
 //	virginica     5   45    0 |  50
 //	sum          45   55   50 | 150
 func TestIrisSpeciesSwapped(t *testing.T) {
-	set := dataset.LoadOrSkip(t, "iris")
+	set := reference.LoadOrSkip(t, "iris")
 	truth := set.Labels
 	require.Len(t, truth, 150)
 	found := make([]int, len(truth))

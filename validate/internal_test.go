@@ -11,7 +11,7 @@ import (
 	"github.com/stretchr/testify/require"
 	"gonum.org/v1/gonum/mat"
 
-	"github.com/centroidlab/centroid/internal/dataset"
+	"github.com/centroidlab/centroid/internal/data/reference"
 )
 
 // This file holds the brute-force references the internal indices are
@@ -277,7 +277,7 @@ func randomCases() []testCase {
 func datasetCases(t *testing.T) []testCase {
 	var cs []testCase
 	for _, name := range []string{"iris", "wine", "seeds"} {
-		s := dataset.LoadOrSkip(t, name)
+		s := reference.LoadOrSkip(t, name)
 		cs = append(cs, testCase{name: name, X: s.X, assign: s.Labels})
 	}
 	return cs
@@ -397,7 +397,7 @@ func TestAgainstBruteForce(t *testing.T) {
 // TestReferenceValues compares the ground-truth partitions of the reference
 // sets with values recalled for them.
 func TestReferenceValues(t *testing.T) {
-	s := dataset.LoadOrSkip(t, "iris")
+	s := reference.LoadOrSkip(t, "iris")
 	// Euclidean silhouette of Fisher's three species on the raw iris data,
 	// ≈ 0.503 (from memory); the exact value is checked above by brute force.
 	sil, err := Silhouette(s.X, s.Labels, nil)

@@ -200,10 +200,9 @@ func newSilhouette(X mat.Matrix, assign []int, m distance.Metric) (*silhouette, 
 			}
 		}
 	}
-	switch m.(type) {
-	case distance.Euclidean, distance.Manhattan, distance.Cosine, distance.Chebyshev,
-		distance.Minkowski, *distance.Minkowski:
-		// Scale-invariant metrics: avoid overflow and underflow.
+	if h, ok := m.(distance.Homogeneous); ok && h.Homogeneous() {
+		// Silhouettes do not change when the rows are rescaled: avoid
+		// overflow and underflow.
 		v, _ = v.rescaled()
 	}
 	if err := g.atLeastTwo("silhouette"); err != nil {
@@ -263,7 +262,7 @@ func (s *silhouette) row(i int, sums []float64) float64 {
 	}
 	clear(sums)
 	xi := v.row(i)
-	if _, ok := s.m.(distance.Euclidean); ok {
+	if distance.ArithmeticOf(s.m) == distance.SquaredDifferences {
 		// Same value as Euclidean.Distance without the interface call.
 		for j := range v.n {
 			if j != i {

@@ -5,7 +5,7 @@
 //
 // It generates the stations deterministically, z-scores the six usage
 // features (they come in trips, fractions, minutes, bikes and metres),
-// sweeps k with kmeans.Sweep (silhouette, Davies–Bouldin,
+// sweeps k with choosek.Sweep (silhouette, Davies–Bouldin,
 // Calinski–Harabasz, Dunn, the knee of the cost curve, the gap statistic
 // and resample stability), takes the recommended k (or the one given with
 // -k), profiles every cluster in original units, draws the evidence

@@ -9,10 +9,13 @@ import (
 	"path/filepath"
 	"strings"
 
+	"github.com/centroidlab/centroid/kmeans/choosek"
+	"github.com/centroidlab/centroid/kmeans/profile"
+
 	"github.com/centroidlab/centroid/distance"
-	"github.com/centroidlab/centroid/internal/bikeshare"
+	"github.com/centroidlab/centroid/internal/data/bikeshare"
 	"github.com/centroidlab/centroid/kmeans"
-	"github.com/centroidlab/centroid/plot"
+	"github.com/centroidlab/centroid/kmeans/plot"
 	"github.com/centroidlab/centroid/scale"
 	"github.com/centroidlab/centroid/validate"
 	"gonum.org/v1/gonum/mat"
@@ -50,15 +53,15 @@ func run(ctx context.Context, w io.Writer, o options) error {
 	for k := o.kmin; k <= o.kmax; k++ {
 		ks = append(ks, k)
 	}
-	opts := &kmeans.SweepOptions{
+	opts := &choosek.Options{
 		SkipGap:       o.refs == 0,
 		GapReferences: o.refs,
 		GapRestarts:   gapRestarts,
 		SkipStability: o.resamples == 0,
-		Stability:     kmeans.StabilityOptions{Resamples: o.resamples, Restarts: resampleRestarts},
+		Stability:     choosek.StabilityOptions{Resamples: o.resamples, Restarts: resampleRestarts},
 	}
 	problem := kmeans.Problem{Data: X, Scaler: &scale.ZScore{}}
-	sw, err := kmeans.Sweep(ctx, problem, ks, &kmeans.Settings{Restarts: sweepRestarts, Seed: o.seed}, nil, opts)
+	sw, err := choosek.Sweep(ctx, problem, ks, &kmeans.Settings{Restarts: sweepRestarts, Seed: o.seed}, nil, opts)
 	if err != nil {
 		return fmt.Errorf("sweep: %w", err)
 	}
@@ -88,7 +91,7 @@ func run(ctx context.Context, w io.Writer, o options) error {
 	}
 
 	// Profiles in original units.
-	pf, err := kmeans.Describe(X, res, &kmeans.ProfileOptions{Features: names, Units: units})
+	pf, err := profile.Describe(X, res, &profile.ProfileOptions{Features: names, Units: units})
 	if err != nil {
 		return fmt.Errorf("profiles: %w", err)
 	}
@@ -143,7 +146,7 @@ func run(ctx context.Context, w io.Writer, o options) error {
 }
 
 // drawPlots writes the three figures into o.out and returns their paths.
-func drawPlots(o options, sw *kmeans.SweepResult, res *kmeans.Result, X *mat.Dense) ([]string, error) {
+func drawPlots(o options, sw *choosek.Result, res *kmeans.Result, X *mat.Dense) ([]string, error) {
 	Z := scaled(X, res.Model)
 	var files []string
 	save := func(name string, fig *plot.Figure, err error) error {
@@ -198,7 +201,7 @@ func featureList(names, units []string) string {
 }
 
 // firstContrast describes the cluster by its most distinctive feature.
-func firstContrast(pf *kmeans.Profile, c int) string {
+func firstContrast(pf *profile.Profile, c int) string {
 	a := pf.Clusters[c].Apart
 	if len(a) == 0 {
 		return "an average station"

@@ -15,7 +15,9 @@ import (
 	"testing"
 	"time"
 
-	"github.com/centroidlab/centroid/internal/bikeshare"
+	"github.com/centroidlab/centroid/kmeans/serve"
+
+	"github.com/centroidlab/centroid/internal/data/bikeshare"
 	"github.com/centroidlab/centroid/kmeans"
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
@@ -47,7 +49,7 @@ func TestLoad(t *testing.T) {
 		require.NoError(t, err)
 		bodies[r] = b
 		for _, rec := range recs {
-			a, err := m.AssignRecord(rec)
+			a, err := serve.AssignRecord(m, rec)
 			require.NoError(t, err)
 			want[r] = append(want[r], a)
 		}

@@ -17,7 +17,7 @@ import (
 	"syscall"
 	"time"
 
-	"github.com/centroidlab/centroid/internal/bikeshare"
+	"github.com/centroidlab/centroid/internal/data/bikeshare"
 	"github.com/centroidlab/centroid/kmeans"
 	"github.com/centroidlab/centroid/scale"
 )

@@ -8,12 +8,14 @@ import (
 	"io"
 	"net/http"
 
+	"github.com/centroidlab/centroid/kmeans/serve"
+
 	"github.com/centroidlab/centroid/kmeans"
 )
 
 // assignRequest is the body of POST /v1/assign.
 type assignRequest struct {
-	Rows []kmeans.Record `json:"rows"`
+	Rows []serve.Record `json:"rows"`
 }
 
 // requestError is a client error with its HTTP status and, for a bad row,
@@ -34,11 +36,11 @@ func (e *requestError) Error() string {
 func (e *requestError) Unwrap() error { return e.err }
 
 // decodeAssign reads an assign request: one JSON object with a "rows" array
-// of at most maxRows records (see kmeans.Record), no other fields and
+// of at most maxRows records (see serve.Record), no other fields and
 // nothing after it. Errors are *requestError values (400 malformed, 413
 // too many rows, 422 a record that is not an object of finite numbers with
 // distinct names) or errors from reading r, such as *http.MaxBytesError.
-func decodeAssign(r io.Reader, maxRows int) ([]kmeans.Record, error) {
+func decodeAssign(r io.Reader, maxRows int) ([]serve.Record, error) {
 	dec := json.NewDecoder(r)
 	dec.DisallowUnknownFields()
 	var req struct {
@@ -65,7 +67,7 @@ func decodeAssign(r io.Reader, maxRows int) ([]kmeans.Record, error) {
 	if len(raw) > maxRows {
 		return nil, &requestError{status: http.StatusRequestEntityTooLarge, row: -1, err: fmt.Errorf("%d rows, at most %d per request", len(raw), maxRows)}
 	}
-	rows := make([]kmeans.Record, len(raw))
+	rows := make([]serve.Record, len(raw))
 	for i, b := range raw {
 		if bytes.Equal(bytes.TrimSpace(b), []byte("null")) {
 			return nil, &requestError{status: http.StatusUnprocessableEntity, row: i, err: fmt.Errorf("%w: a row must be an object, not null", kmeans.ErrSchema)}

@@ -14,6 +14,8 @@ import (
 	"strings"
 	"time"
 
+	"github.com/centroidlab/centroid/kmeans/serve"
+
 	"github.com/centroidlab/centroid/kmeans"
 )
 
@@ -34,7 +36,7 @@ var DefaultLimits = Limits{MaxBody: 1 << 20, MaxRows: 10000, MaxModelBytes: 16 <
 // Server answers the HTTP API for one Holder. Create it with NewServer and
 // mount Handler on an http.Server.
 type Server struct {
-	holder kmeans.Holder
+	holder serve.Holder
 	limits Limits
 	token  string // admin token for PUT /v1/model; empty: no check
 	log    *slog.Logger
@@ -53,7 +55,7 @@ func NewServer(m *kmeans.Model, limits Limits, token string, log *slog.Logger) (
 		log = slog.New(slog.DiscardHandler)
 	}
 	s := &Server{limits: limits, token: token, log: log, vars: new(expvar.Map).Init()}
-	s.holder.Accept = kmeans.SameSchema
+	s.holder.Accept = serve.SameSchema
 	if _, err := s.holder.Swap(m); err != nil {
 		return nil, err
 	}
@@ -188,7 +190,7 @@ func requireJSON(w http.ResponseWriter, r *http.Request) bool {
 func bodyError(w http.ResponseWriter, err error) {
 	var tooBig *http.MaxBytesError
 	var re *requestError
-	var fe *kmeans.FieldError
+	var fe *serve.FieldError
 	switch {
 	case errors.As(err, &tooBig):
 		writeError(w, http.StatusRequestEntityTooLarge, "request body larger than %d bytes", tooBig.Limit)
@@ -223,7 +225,7 @@ func (s *Server) assign(w http.ResponseWriter, r *http.Request) {
 	}
 	out := make([]kmeans.Assignment, len(rows))
 	for i, row := range rows {
-		a, err := served.Model.AssignRecord(row)
+		a, err := serve.AssignRecord(served.Model, row)
 		if err != nil {
 			s.reject(served, err)
 			bodyError(w, &requestError{status: http.StatusUnprocessableEntity, row: i, err: err})
@@ -241,7 +243,7 @@ func (s *Server) assign(w http.ResponseWriter, r *http.Request) {
 }
 
 // reject counts a row refused by the decoder or the model.
-func (s *Server) reject(served *kmeans.Served, err error) {
+func (s *Server) reject(served *serve.Served, err error) {
 	s.rowsRejected.Add(1)
 	if served.Drift != nil {
 		served.Drift.ObserveError(err)
@@ -344,7 +346,7 @@ func isBodyReadError(err error) bool {
 // driftBody is the /v1/drift response.
 type driftBody struct {
 	Model string `json:"model"`
-	kmeans.DriftSnapshot
+	serve.DriftSnapshot
 }
 
 func (s *Server) drift(w http.ResponseWriter, r *http.Request) {

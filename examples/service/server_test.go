@@ -12,7 +12,9 @@ import (
 	"strings"
 	"testing"
 
-	"github.com/centroidlab/centroid/internal/bikeshare"
+	"github.com/centroidlab/centroid/kmeans/serve"
+
+	"github.com/centroidlab/centroid/internal/data/bikeshare"
 	"github.com/centroidlab/centroid/kmeans"
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
@@ -43,13 +45,13 @@ type assignResponse struct {
 }
 
 // stationRows returns the stations as request rows.
-func stationRows(stations []bikeshare.Station) []kmeans.Record {
+func stationRows(stations []bikeshare.Station) []serve.Record {
 	names := bikeshare.Features()
-	rows := make([]kmeans.Record, len(stations))
+	rows := make([]serve.Record, len(stations))
 	for i, s := range stations {
-		rows[i] = make(kmeans.Record, len(names))
+		rows[i] = make(serve.Record, len(names))
 		for j, name := range names {
-			rows[i][j] = kmeans.Field{Name: name, Value: s.Features[j]}
+			rows[i][j] = serve.Field{Name: name, Value: s.Features[j]}
 		}
 	}
 	return rows
@@ -74,7 +76,7 @@ func do(t testing.TB, c *http.Client, method, url, ctype string, body []byte, he
 
 // checkAnswers compares a response with the in-process answers of m, bit
 // for bit.
-func checkAnswers(t testing.TB, m *kmeans.Model, rows []kmeans.Record, body []byte) {
+func checkAnswers(t testing.TB, m *kmeans.Model, rows []serve.Record, body []byte) {
 	var got assignResponse
 	require.NoError(t, json.Unmarshal(body, &got), "%s", body)
 	sum, err := m.Checksum()
@@ -82,7 +84,7 @@ func checkAnswers(t testing.TB, m *kmeans.Model, rows []kmeans.Record, body []by
 	require.Equal(t, sum, got.Model)
 	require.Len(t, got.Assignments, len(rows))
 	for i, row := range rows {
-		want, err := m.AssignRecord(row)
+		want, err := serve.AssignRecord(m, row)
 		require.NoError(t, err)
 		a := got.Assignments[i]
 		require.Equal(t, want.Cluster, a.Cluster, "row %d", i)
@@ -151,12 +153,12 @@ func TestBadRequests(t *testing.T) {
 		{"unknown top-level field", "POST", "/v1/assign", "application/json", `{"rows":[],"limit":3}`, 400, "", ""},
 		{"trailing data", "POST", "/v1/assign", "application/json", `{"rows":[]} {}`, 400, "", ""},
 		{"NaN literal", "POST", "/v1/assign", "application/json", `{"rows":[` + strings.Replace(goodRow, `"elevation_m":`, `"elevation_m":NaN,"x":`, 1) + `]}`, 400, "", ""},
-		{"number out of range", "POST", "/v1/assign", "application/json", `{"rows":[` + strings.Replace(goodRow, `"elevation_m":`, `"elevation_m":1e999,"x":`, 1) + `]}`, 422, "elevation_m", kmeans.FieldNotFinite},
-		{"wrong field name", "POST", "/v1/assign", "application/json", `{"rows":[` + goodRow + `,` + row(func(f map[string]any) { f["elevation"] = f["elevation_m"]; delete(f, "elevation_m") }) + `]}`, 422, "elevation", kmeans.FieldUnknown},
-		{"missing field", "POST", "/v1/assign", "application/json", `{"rows":[` + row(func(f map[string]any) { delete(f, "weekend_share") }) + `]}`, 422, "weekend_share", kmeans.FieldMissing},
-		{"extra field", "POST", "/v1/assign", "application/json", `{"rows":[` + row(func(f map[string]any) { f["temperature"] = 21.5 }) + `]}`, 422, "temperature", kmeans.FieldUnknown},
-		{"repeated field", "POST", "/v1/assign", "application/json", `{"rows":[{"elevation_m":1,"elevation_m":2}]}`, 422, "elevation_m", kmeans.FieldRepeated},
-		{"string value", "POST", "/v1/assign", "application/json", `{"rows":[` + row(func(f map[string]any) { f["trips_per_day"] = "212" }) + `]}`, 422, "trips_per_day", kmeans.FieldNotNumber},
+		{"number out of range", "POST", "/v1/assign", "application/json", `{"rows":[` + strings.Replace(goodRow, `"elevation_m":`, `"elevation_m":1e999,"x":`, 1) + `]}`, 422, "elevation_m", serve.FieldNotFinite},
+		{"wrong field name", "POST", "/v1/assign", "application/json", `{"rows":[` + goodRow + `,` + row(func(f map[string]any) { f["elevation"] = f["elevation_m"]; delete(f, "elevation_m") }) + `]}`, 422, "elevation", serve.FieldUnknown},
+		{"missing field", "POST", "/v1/assign", "application/json", `{"rows":[` + row(func(f map[string]any) { delete(f, "weekend_share") }) + `]}`, 422, "weekend_share", serve.FieldMissing},
+		{"extra field", "POST", "/v1/assign", "application/json", `{"rows":[` + row(func(f map[string]any) { f["temperature"] = 21.5 }) + `]}`, 422, "temperature", serve.FieldUnknown},
+		{"repeated field", "POST", "/v1/assign", "application/json", `{"rows":[{"elevation_m":1,"elevation_m":2}]}`, 422, "elevation_m", serve.FieldRepeated},
+		{"string value", "POST", "/v1/assign", "application/json", `{"rows":[` + row(func(f map[string]any) { f["trips_per_day"] = "212" }) + `]}`, 422, "trips_per_day", serve.FieldNotNumber},
 		{"null row", "POST", "/v1/assign", "application/json", `{"rows":[null]}`, 422, "", ""},
 		{"too many rows", "POST", "/v1/assign", "application/json", many, 413, "", ""},
 		{"oversized body", "POST", "/v1/assign", "application/json", huge, 413, "", ""},

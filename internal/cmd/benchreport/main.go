@@ -14,9 +14,9 @@ import (
 	"time"
 
 	"github.com/centroidlab/centroid/distance"
-	"github.com/centroidlab/centroid/internal/dataset"
+	"github.com/centroidlab/centroid/internal/data/reference"
+	"github.com/centroidlab/centroid/internal/data/synth"
 	"github.com/centroidlab/centroid/internal/nearest"
-	"github.com/centroidlab/centroid/internal/synth"
 	"github.com/centroidlab/centroid/kmeans"
 	"github.com/centroidlab/centroid/seeding"
 	"gonum.org/v1/gonum/blas"
@@ -162,7 +162,7 @@ func (c config) datasets(names []string) {
 	fmt.Println(solverHeader)
 	ks := map[string]int{"s1": 15, "s2": 15, "s3": 15, "s4": 15, "a1": 20, "a2": 35, "a3": 50, "unbalance": 8, "letter": 26, "iris": 3, "wine": 3, "seeds": 3}
 	for _, n := range names {
-		s, err := dataset.Load(n)
+		s, err := reference.Load(n)
 		if err != nil {
 			fmt.Fprintln(os.Stderr, "benchreport: skipping", n+":", err)
 			continue

@@ -1,0 +1,359 @@
+package choosek
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"slices"
+
+	"github.com/centroidlab/centroid/internal/sample"
+	"github.com/centroidlab/centroid/kmeans"
+
+	"github.com/centroidlab/centroid/validate"
+	"gonum.org/v1/gonum/blas/blas64"
+	"gonum.org/v1/gonum/mat"
+)
+
+// Defaults of StabilityOptions.
+const (
+	DefaultStabilityResamples = 10
+	DefaultStabilityFraction  = 0.8
+	DefaultStabilityRestarts  = 3
+)
+
+// StabilityOptions tunes MeasureStability. A nil *StabilityOptions and the
+// zero value mean the defaults.
+type StabilityOptions struct {
+	// Resamples is the number B of subsamples clustered again. Zero means
+	// DefaultStabilityResamples (10); 1 and negative values are invalid (the
+	// mean ARI needs a pair of resamples).
+	Resamples int
+	// Fraction is the share of the rows drawn, without replacement, for
+	// every resample: round(Fraction·n) rows. Zero means
+	// DefaultStabilityFraction (0.8); values outside (0, 1] are invalid.
+	// With Fraction 1 every resample sees all rows and only the seeding
+	// varies.
+	Fraction float64
+	// Restarts is Settings.Restarts of every resample. Zero means
+	// DefaultStabilityRestarts (3); negative is invalid.
+	Restarts int
+}
+
+func (o *StabilityOptions) resolved() (StabilityOptions, error) {
+	var r StabilityOptions
+	if o != nil {
+		r = *o
+	}
+	switch {
+	case r.Resamples == 0:
+		r.Resamples = DefaultStabilityResamples
+	case r.Resamples < 2:
+		return r, fmt.Errorf("%w: stability Resamples = %d, want at least 2", kmeans.ErrSettings, r.Resamples)
+	}
+	switch {
+	case r.Fraction == 0:
+		r.Fraction = DefaultStabilityFraction
+	case !(r.Fraction > 0 && r.Fraction <= 1):
+		return r, fmt.Errorf("%w: stability Fraction = %v, want 0 < Fraction ≤ 1", kmeans.ErrSettings, r.Fraction)
+	}
+	switch {
+	case r.Restarts == 0:
+		r.Restarts = DefaultStabilityRestarts
+	case r.Restarts < 0:
+		return r, fmt.Errorf("%w: stability Restarts = %d", kmeans.ErrSettings, r.Restarts)
+	}
+	return r, nil
+}
+
+// Verdict is the reading of a cluster's mean Jaccard stability.
+type Verdict int
+
+const (
+	// Unstable: mean Jaccard below validate.JaccardUnstable (0.6). The
+	// cluster is not reproduced by resamples and should not be trusted.
+	Unstable Verdict = iota
+	// Doubtful: mean Jaccard from 0.6 up to validate.JaccardStable (0.75).
+	// There is a pattern, but its exact membership is doubtful.
+	Doubtful
+	// Stable: mean Jaccard at least 0.75.
+	Stable
+)
+
+// String returns the verdict's name.
+func (v Verdict) String() string {
+	switch v {
+	case Unstable:
+		return "unstable"
+	case Doubtful:
+		return "doubtful"
+	case Stable:
+		return "stable"
+	}
+	return fmt.Sprintf("Verdict(%d)", int(v))
+}
+
+// Judge reads a mean Jaccard similarity with the thresholds of C. Hennig,
+// "Cluster-wise assessment of cluster stability", Computational Statistics
+// & Data Analysis 52, 2007: below 0.6 unstable, 0.75 and above stable,
+// doubtful in between. The thresholds are common practice attributed to
+// that paper, not properties of the similarity (see validate.JaccardStable).
+func Judge(jaccard float64) Verdict {
+	switch {
+	case jaccard >= validate.JaccardStable:
+		return Stable
+	case jaccard >= validate.JaccardUnstable:
+		return Doubtful
+	}
+	return Unstable
+}
+
+// Stability is how well a clustering survives being re-clustered on subsamples
+// of its rows.
+type Stability struct {
+	// K is the number of clusters.
+	K int
+	// Resamples and Fraction are the number of subsamples and the share of
+	// rows in each.
+	Resamples int
+	Fraction  float64
+	// MeanARI is the adjusted Rand index between two resamples, computed on
+	// the rows both subsamples drew and averaged over all Resamples·(Resamples−1)/2
+	// pairs. Near 1: the resamples agree; near 0: agreement no better than
+	// chance.
+	MeanARI float64
+	// Jaccard[j] is the mean, over the resamples that drew rows of cluster j of
+	// the reference clustering, of the Jaccard similarity between those
+	// rows and the most similar cluster of the resample
+	// (validate.ClusterJaccard). A reference cluster with no rows, or never
+	// drawn, gets 0.
+	Jaccard []float64
+	// Drawn[j] is the number of resamples that drew rows of cluster j.
+	Drawn []int
+}
+
+// MinJaccard returns the smallest per-cluster Jaccard stability: the
+// weakest cluster decides whether the whole clustering can be trusted.
+func (s *Stability) MinJaccard() float64 {
+	if len(s.Jaccard) == 0 {
+		return 0
+	}
+	return slices.Min(s.Jaccard)
+}
+
+// Verdict returns the reading (Judge) of the weakest cluster.
+func (s *Stability) Verdict() Verdict { return Judge(s.MinJaccard()) }
+
+// Verdicts returns the reading (Judge) of every cluster.
+func (s *Stability) Verdicts() []Verdict {
+	v := make([]Verdict, len(s.Jaccard))
+	for j, x := range s.Jaccard {
+		v[j] = Judge(x)
+	}
+	return v
+}
+
+// MeasureStability clusters subsamples of the rows of problem p again and
+// measures how well the clusters of the reference assignments ref
+// (len n, labels in [0, p.K)) are reproduced, cluster by cluster, following
+// Hennig's resampling scheme (C. Hennig, "Cluster-wise assessment of
+// cluster stability", Computational Statistics & Data Analysis 52, 2007).
+// If ref is nil, p is first clustered with s and m and that result is the
+// reference.
+//
+// Resample b draws round(Fraction·n) rows without replacement (a partial
+// Fisher–Yates shuffle from a PCG generator seeded by s.Seed and b) and runs
+// Cluster on them with the same metric, seeder, scaler (learned again on
+// the subsample: the whole procedure is repeated) and weights, Restarts
+// restarts and a seed derived from s.Seed and b. The result is
+// deterministic for a given s.Seed whatever s.Workers.
+//
+// It returns an error wrapping ErrSettings for invalid options, ErrData or
+// ErrK if ref does not label the n rows with values in [0, p.K), ErrK if a
+// subsample has fewer than p.K distinct rows (raise Fraction), the errors of
+// Cluster, and ctx.Err() if ctx ends.
+func MeasureStability(ctx context.Context, p kmeans.Problem, ref []int, s *kmeans.Settings, m kmeans.Method, o *StabilityOptions) (*Stability, error) {
+	opt, err := o.resolved()
+	if err != nil {
+		return nil, err
+	}
+	set, err := quietSettings(s)
+	if err != nil {
+		return nil, err
+	}
+	if ref == nil {
+		res, err := kmeans.Cluster(ctx, p, &set, m)
+		if err != nil {
+			return nil, err
+		}
+		ref = res.Assignments
+	}
+	if p.Data == nil {
+		return nil, fmt.Errorf("%w: nil matrix", kmeans.ErrData)
+	}
+	n, _ := p.Data.Dims()
+	if len(ref) != n {
+		return nil, fmt.Errorf("%w: %d reference assignments for %d rows", kmeans.ErrData, len(ref), n)
+	}
+	for i, a := range ref {
+		if a < 0 || a >= p.K {
+			return nil, fmt.Errorf("%w: reference assignment %d is %d, want 0 ≤ a < K = %d", kmeans.ErrK, i, a, p.K)
+		}
+	}
+	return stabilityOf(ctx, p, ref, set, m, opt)
+}
+
+// stabilityOf is MeasureStability after the checks, with resolved settings.
+func stabilityOf(ctx context.Context, p kmeans.Problem, ref []int, set kmeans.Settings, m kmeans.Method, opt StabilityOptions) (*Stability, error) {
+	n, _ := p.Data.Dims()
+	size := int(math.Round(opt.Fraction * float64(n)))
+	if size < p.K || size < 2 {
+		return nil, fmt.Errorf("%w: a subsample of %d of %d rows cannot hold K = %d clusters (raise Fraction)", kmeans.ErrK, size, n, p.K)
+	}
+	st := &Stability{K: p.K, Resamples: opt.Resamples, Fraction: opt.Fraction, Jaccard: make([]float64, p.K), Drawn: make([]int, p.K)}
+	rows := make([][]int, opt.Resamples)
+	labels := make([][]int, opt.Resamples)
+	for b := range opt.Resamples {
+		if err := ctx.Err(); err != nil {
+			return nil, err
+		}
+		rows[b] = subsample(n, size, sweepMix(set.Seed, stabilityStream, uint64(b)))
+		sub := p
+		sub.Data = selectRows(p.Data, rows[b])
+		if p.Weights != nil {
+			sub.Weights = make([]float64, size)
+			for t, i := range rows[b] {
+				sub.Weights[t] = p.Weights[i]
+			}
+		}
+		rs := set
+		rs.Restarts = opt.Restarts
+		rs.Seed = sweepMix(set.Seed, redrawStream, uint64(b))
+		res, err := kmeans.Cluster(ctx, sub, &rs, m)
+		if err != nil {
+			if errors.Is(err, kmeans.ErrK) || errors.Is(err, kmeans.ErrWeights) {
+				return nil, fmt.Errorf("stability resample %d on %d of %d rows: %w (raise Fraction)", b, size, n, err)
+			}
+			return nil, fmt.Errorf("stability resample %d: %w", b, err)
+		}
+		labels[b] = res.Assignments
+		present, best, err := validate.ClusterJaccard(ref, res.Assignments, rows[b])
+		if err != nil {
+			return nil, fmt.Errorf("stability resample %d: %w", b, err)
+		}
+		for t, j := range present {
+			if !math.IsNaN(best[t]) {
+				st.Jaccard[j] += best[t]
+				st.Drawn[j]++
+			}
+		}
+	}
+	for j, c := range st.Drawn {
+		if c > 0 {
+			st.Jaccard[j] /= float64(c)
+		}
+	}
+	var sum float64
+	pairs := 0
+	for a := range opt.Resamples {
+		for b := a + 1; b < opt.Resamples; b++ {
+			la, lb := commonLabels(rows[a], labels[a], rows[b], labels[b])
+			if len(la) < 2 {
+				continue
+			}
+			ari, err := validate.AdjustedRand(la, lb)
+			if err != nil {
+				return nil, fmt.Errorf("stability: %w", err)
+			}
+			sum += ari
+			pairs++
+		}
+	}
+	if pairs > 0 {
+		st.MeanARI = sum / float64(pairs)
+	}
+	return st, nil
+}
+
+// quietSettings resolves s for the many Cluster calls of a sweep or a
+// stability check, which report no progress.
+func quietSettings(s *kmeans.Settings) (kmeans.Settings, error) {
+	set, err := s.Resolve()
+	set.Progress = nil
+	return set, err
+}
+
+// Random streams derived from a seed by sweepMix, so that the parts of a
+// sweep never share a generator.
+const (
+	stabilityStream  = 0x73746162 // "stab": subsample draws
+	redrawStream     = 0x72666974 // seeds of the clusterings of the subsamples
+	sweepKStream     = 0x6b6b6b6b // seeds of the clustering of each k
+	silhouetteStream = 0x73696c68 // "silh": sampled silhouette rows
+	gapStream        = 0x67617073 // "gaps": gap statistic
+)
+
+// sweepMix derives a seed from seed, a stream and an index with the
+// SplitMix64 output function (G. L. Steele, D. Lea and C. H. Flood, "Fast
+// splittable pseudorandom number generators", OOPSLA 2014).
+func sweepMix(seed, stream, i uint64) uint64 {
+	x := seed ^ splitMix64(stream<<32^i)
+	return splitMix64(x)
+}
+
+func splitMix64(x uint64) uint64 {
+	x += 0x9e3779b97f4a7c15
+	x = (x ^ (x >> 30)) * 0xbf58476d1ce4e5b9
+	x = (x ^ (x >> 27)) * 0x94d049bb133111eb
+	return x ^ (x >> 31)
+}
+
+// subsample returns size distinct row indices of [0, n) in ascending order,
+// the first size entries of a partial Fisher–Yates shuffle.
+func subsample(n, size int, seed uint64) []int {
+	out := sample.Without(rand.New(rand.NewPCG(seed, stabilityStream)), n, size)
+	slices.Sort(out)
+	return out
+}
+
+// selectRows returns a new matrix of the given rows of a, in order.
+func selectRows(a mat.Matrix, rows []int) *mat.Dense {
+	_, d := a.Dims()
+	out := mat.NewDense(len(rows), d, nil)
+	rm, fast := a.(mat.RawMatrixer)
+	var raw blas64.General
+	if fast {
+		raw = rm.RawMatrix()
+	}
+	for t, i := range rows {
+		dst := out.RawRowView(t)
+		if fast {
+			copy(dst, raw.Data[i*raw.Stride:i*raw.Stride+d])
+			continue
+		}
+		for j := range dst {
+			dst[j] = a.At(i, j)
+		}
+	}
+	return out
+}
+
+// commonLabels returns the labels that two resamples gave to the rows both
+// drew (rows are ascending).
+func commonLabels(ra, la, rb, lb []int) (ca, cb []int) {
+	for i, j := 0, 0; i < len(ra) && j < len(rb); {
+		switch {
+		case ra[i] < rb[j]:
+			i++
+		case ra[i] > rb[j]:
+			j++
+		default:
+			ca = append(ca, la[i])
+			cb = append(cb, lb[j])
+			i++
+			j++
+		}
+	}
+	return ca, cb
+}

@@ -1,0 +1,88 @@
+package serve
+
+import (
+	"context"
+	"testing"
+
+	"github.com/centroidlab/centroid/internal/data/bikeshare"
+	"github.com/centroidlab/centroid/kmeans"
+	"github.com/centroidlab/centroid/scale"
+)
+
+// benchmarkServeNamed labels demo stations given by feature name.
+func benchmarkServeNamed(b *testing.B, byMap bool) {
+	_, x := bikeshare.Generate(500, 1)
+	res, err := kmeans.Cluster(context.Background(), kmeans.Problem{Data: x, K: 5, Scaler: &scale.ZScore{}}, &kmeans.Settings{Seed: 1}, nil)
+	if err != nil {
+		b.Fatal(err)
+	}
+	m, err := res.Model.WithFeatures(bikeshare.Features())
+	if err != nil {
+		b.Fatal(err)
+	}
+	stations := bikeshare.NewStations(256, 2)
+	recs := make([]Record, len(stations))
+	maps := make([]map[string]float64, len(stations))
+	for i, s := range stations {
+		maps[i] = map[string]float64{}
+		for j, name := range bikeshare.Features() {
+			recs[i] = append(recs[i], Field{name, s.Features[j]})
+			maps[i][name] = s.Features[j]
+		}
+	}
+	b.ReportAllocs()
+	b.ResetTimer()
+	for i := 0; b.Loop(); i++ {
+		if byMap {
+			_, err = AssignMap(m, maps[i%len(maps)])
+		} else {
+			_, err = AssignRecord(m, recs[i%len(recs)])
+		}
+		if err != nil {
+			b.Fatal(err)
+		}
+	}
+}
+
+func BenchmarkServeAssignRecord(b *testing.B) { benchmarkServeNamed(b, false) }
+
+func BenchmarkServeAssignMap(b *testing.B) { benchmarkServeNamed(b, true) }
+
+func BenchmarkServeDriftObserve(b *testing.B) {
+	m, x := serveModel(b, 6, 5, nil)
+	m.training = &kmeans.Training{Rows: 1, Clusters: make([]kmeans.ClusterSummary, 5)}
+	m.training.Clusters[0] = kmeans.ClusterSummary{Size: 1, Weight: 1}
+	dr, err := NewDrift(m)
+	if err != nil {
+		b.Fatal(err)
+	}
+	as := make([]kmeans.Assignment, 64)
+	if err := m.AssignBatch(as, x.Slice(0, 64, 0, 6)); err != nil {
+		b.Fatal(err)
+	}
+	b.ReportAllocs()
+	b.ResetTimer()
+	b.RunParallel(func(pb *testing.PB) {
+		for i := 0; pb.Next(); i++ {
+			dr.Observe(as[i&63])
+		}
+	})
+}
+
+func BenchmarkServeHolderLoad(b *testing.B) {
+	m, x := serveModel(b, 16, 32, &scale.ZScore{})
+	var h Holder
+	if _, err := h.Swap(m); err != nil {
+		b.Fatal(err)
+	}
+	b.ReportAllocs()
+	b.ResetTimer()
+	b.RunParallel(func(pb *testing.PB) {
+		for i := 0; pb.Next(); i++ {
+			if _, _, err := h.Load().Model.Nearest(x.RawRowView(i % serveRows)); err != nil {
+				b.Error(err)
+				return
+			}
+		}
+	})
+}

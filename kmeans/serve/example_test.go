@@ -1,0 +1,89 @@
+package serve_test
+
+import (
+	"errors"
+	"fmt"
+
+	"github.com/centroidlab/centroid/internal/data/bikeshare"
+	"github.com/centroidlab/centroid/kmeans"
+	"github.com/centroidlab/centroid/kmeans/serve"
+)
+
+// A proposed station given by feature name gets a cluster (here the busy
+// weekday cluster of commuter hubs), the distance to its center and the
+// margin to the runner-up; a misspelt field is named in the error.
+func ExampleModel_AssignRecord() {
+	m := demo()
+	station := serve.Record{
+		{Name: "trips_per_day", Value: 310}, {Name: "weekend_share", Value: 0.12},
+		{Name: "peak_hour_ratio", Value: 0.58}, {Name: "mean_trip_minutes", Value: 11.5},
+		{Name: "return_imbalance", Value: 5}, {Name: "elevation_m", Value: 18},
+	}
+	a, err := serve.AssignRecord(m, station)
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	fmt.Printf("cluster %d, distance %.2f, margin %.2f\n", a.Cluster, a.Distance, a.Margin)
+	byVector, _ := m.Assign([]float64{310, 0.12, 0.58, 11.5, 5, 18})
+	fmt.Println("same as by vector:", byVector == a)
+
+	station[5].Name = "elevation"
+	_, err = serve.AssignRecord(m, station)
+	fmt.Println(err)
+	var fe *serve.FieldError
+	fmt.Println(errors.As(err, &fe), errors.Is(err, kmeans.ErrSchema))
+	// Output:
+	// cluster 1, distance 0.30, margin 1.97
+	// same as by vector: true
+	// kmeans: field "elevation": unknown
+	// true true
+}
+
+// A Holder serves one model to many goroutines and replaces it atomically;
+// a replacement with other feature names is refused and the old model
+// keeps serving.
+func ExampleHolder() {
+	m := demo()
+	h := serve.Holder{Accept: serve.SameSchema}
+	if _, err := h.Swap(m); err != nil {
+		fmt.Println(err)
+		return
+	}
+	other, _ := m.WithFeatures([]string{"a", "b", "c", "d", "e", "f"})
+	_, err := h.Swap(other)
+	fmt.Println(errors.Is(err, kmeans.ErrSchema), h.Model() == m)
+
+	served := h.Load() // one atomic load per request
+	c, _, _ := served.Model.Nearest([]float64{60, 0.3, 0.45, 16, -4, 140})
+	fmt.Println("hillside station in cluster", c)
+	// Output:
+	// true true
+	// hillside station in cluster 0
+}
+
+// Drift compares the clusters of live traffic with the training shares.
+// Traffic made only of hillside stations is a major shift.
+func ExampleDrift() {
+	m := demo()
+	d, err := serve.NewDrift(m)
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	for _, s := range bikeshare.NewStations(400, 2) {
+		if s.Kind != bikeshare.Hillside {
+			continue
+		}
+		a, err := m.Assign(s.Features)
+		if err != nil {
+			d.ObserveError(err)
+			continue
+		}
+		d.Observe(a)
+	}
+	s := d.Snapshot()
+	fmt.Printf("%d rows, PSI %.1f: %s\n", s.Rows, s.PSI, s.Reading)
+	// Output:
+	// 112 rows, PSI 6.9: major shift
+}

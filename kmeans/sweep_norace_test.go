@@ -1,6 +1,0 @@
-//go:build !race
-
-package kmeans
-
-// sweepRace is true when the race detector is on (see sweep_race_test.go).
-const sweepRace = false
