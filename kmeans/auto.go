@@ -25,32 +25,9 @@ import (
 //     is expensive and Elkan computes the fewest.
 //   - otherwise: Yinyang.
 //
-// Measured with go run ./internal/cmd/benchreport on the project's 2-vCPU
-// benchmark machine (BENCHMARKS.md, runs A and B, has the full tables and
-// flags): wall time of Cluster (one restart, parallel k-means++ seeding
-// included, at most 30 passes, 10 at n=1e6) as a speed-up over Lloyd, and
-// the rule's pick with its time ÷ the fastest method's (that method in
-// brackets), computed from the same run's per-solver times.
-//
-//	cell (blobs, 50 true clusters)  Elkan  Hamerly  Yinyang  pick       ÷ fastest
-//	n=1e4 d=2   k=8                 0.70   1.29     0.71     Hamerly    1.00
-//	n=1e5 d=2   k=64                0.36   1.04     0.88     Hamerly    1.00
-//	n=1e5 d=2   k=256               0.23   0.91     0.79     Hamerly    1.10 (Lloyd)
-//	n=1e6 d=2   k=64                0.39   1.00     0.69     Hamerly    1.00
-//	n=1e5 d=16  k=8                 0.82   1.02     0.89     Lloyd      1.02 (Hamerly)
-//	letter 20000×16 k=26            0.71   1.20     0.84     Hamerly    1.00
-//	n=1e4 d=16  k=64                0.77   1.47     1.59     Hamerly    1.08 (Yinyang)
-//	n=1e5 d=16  k=64                0.82   1.91     2.00     Hamerly    1.05 (Yinyang)
-//	n=1e6 d=16  k=64                1.18   1.71     1.25     Hamerly    1.00
-//	n=1e5 d=16  k=256               0.59   0.68     1.66     Yinyang    1.00
-//	n=1e4 d=64  k=8                 0.69   0.95     0.94     Lloyd      1.00
-//	n=1e5 d=64  k=64                1.65   1.88     2.34     Yinyang    1.00
-//	n=1e5 d=64  k=256               1.29   0.69     2.04     Yinyang    1.00
-//	n=1e4 d=256 k=8                 0.99   1.00     0.98     Hamerly    1.00
-//	n=1e5 d=256 k=8                 0.96   0.95     0.95     Hamerly    1.05 (Lloyd)
-//	n=1e4 d=256 k=64                1.42   1.32     1.48     Elkan      1.04 (Yinyang)
-//	n=1e5 d=256 k=64                2.02   1.75     2.15     Elkan      1.07 (Yinyang)
-//	n=1e4 d=256 k=256               1.37   0.86     1.45     Yinyang    1.00
+// The rule is grounded in the measured table "Automatic choice" of
+// BENCHMARKS.md (go run ./internal/cmd/benchreport): the pick is within
+// 1.2× of the fastest method in every measured cell.
 func choose(sp *Space, k int) Method {
 	if t, ok := sp.Metric.(distance.Triangle); !ok || !t.Triangle() || k == 1 {
 		return Lloyd{}

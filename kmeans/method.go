@@ -1,10 +1,7 @@
 package kmeans
 
 import (
-	"math"
 	"sync/atomic"
-
-	"github.com/centroidlab/centroid/distance"
 )
 
 // Method is a k-means solver. The driver (Cluster) owns seeding, restarts,
@@ -56,59 +53,4 @@ type Step struct {
 	// counted. Add to them atomically.
 	Moved     atomic.Int64
 	Distances atomic.Int64
-}
-
-// Lloyd is the standard k-means iteration (S. P. Lloyd, "Least squares
-// quantization in PCM", IEEE Trans. Information Theory 28(2), 1982): every
-// pass computes the loss of every row against every center. It works with
-// every distance.Objective.
-//
-// Under Euclidean the pass runs the blocked kernel of internal/nearest
-// (‖c‖² − 2x·c on shifted rows, argmin fused, rows with a near-tie
-// recomputed by the direct loss), which gives exactly the assignments of
-// the direct computation; other metrics compute Metric.Loss directly. Extra memory:
-// the packed centers (k·d) and, per worker, one tile of shifted rows
-// (at most 64 KiB or 16 rows).
-type Lloyd struct{}
-
-var _ Method = Lloyd{}
-
-// Start returns Lloyd's per-restart state (packed centers and scratch
-// under Euclidean, nothing otherwise).
-func (Lloyd) Start(sp *Space, k int) (Pass, error) {
-	if sp.arith == distance.SquaredDifferences {
-		return &lloydKernel{sp: sp, k: k}, nil
-	}
-	return lloydPass{sp: sp, k: k}, nil
-}
-
-type lloydPass struct {
-	sp *Space
-	k  int
-}
-
-func (p lloydPass) Assign(st *Step) {
-	sp, k, d := p.sp, p.k, p.sp.D
-	sp.Parallel(func(b int) {
-		part := &st.Blocks[b]
-		part.Reset()
-		lo, hi := sp.Block(b)
-		moved := 0
-		for i := lo; i < hi; i++ {
-			x := sp.Row(i)
-			best, bestLoss := 0, math.Inf(1)
-			for j := range k {
-				if l := sp.Metric.Loss(x, st.Centers[j*d:(j+1)*d]); l < bestLoss {
-					best, bestLoss = j, l
-				}
-			}
-			if st.Assign[i] != best {
-				moved++
-				st.Assign[i] = best
-			}
-			sp.Add(part, i, best, bestLoss)
-		}
-		st.Moved.Add(int64(moved))
-		st.Distances.Add(int64(hi-lo) * int64(k))
-	})
 }

@@ -7,6 +7,7 @@ import (
 	"time"
 
 	"github.com/centroidlab/centroid/distance"
+	"github.com/centroidlab/centroid/internal/check"
 	"github.com/centroidlab/centroid/scale"
 	"gonum.org/v1/gonum/blas/blas64"
 	"gonum.org/v1/gonum/mat"
@@ -85,6 +86,90 @@ func newModel(centers []float64, k, d int, metric distance.Objective, sc scale.S
 	}
 	m.pool = &sync.Pool{New: func() any { s := make([]float64, 2*d); return &s }}
 	return m
+}
+
+// NewModel returns the model of the k×d centers, given in the clustering
+// space (the space after scaler, where Cluster measures distances), with
+// the metric (nil means distance.Euclidean), the learned scaler that maps
+// raw rows into that space (nil means none) and the feature names (nil
+// means no schema). It is how code outside Cluster — streaming and
+// distributed fitting, a model computed elsewhere — makes a Model; it
+// copies centers and features.
+//
+// It checks everything a decoded document is checked for: the centers are
+// finite and, under Cosine, of unit length (within 1e-6); the metric has a
+// center rule; the scaler has d columns; the features are valid (see
+// WithFeatures). It returns an error wrapping ErrModel, ErrMetric or
+// ErrSchema. The model has no training summary; add one with
+// WithTraining.
+func NewModel(centers mat.Matrix, metric distance.Objective, scaler scale.Scaler, features []string) (*Model, error) {
+	k, d, err := check.Matrix(centers, ErrModel)
+	if err != nil {
+		return nil, err
+	}
+	if metric == nil {
+		metric = distance.Euclidean{}
+	}
+	if err := distance.Check(metric); err != nil {
+		return nil, fmt.Errorf("%w: %w", ErrMetric, err)
+	}
+	c, _ := check.RowMajor(centers)
+	if err := checkCenters(c, k, d, metric); err != nil {
+		return nil, err
+	}
+	if scaler != nil && scaler.Dim() != d {
+		return nil, fmt.Errorf("%w: scaler has %d columns, centers have %d", ErrModel, scaler.Dim(), d)
+	}
+	m := newModel(c, k, d, metric, scaler)
+	if features != nil {
+		return m.WithFeatures(features)
+	}
+	return m, nil
+}
+
+// checkCenters checks k×d centers in the clustering space for metric:
+// finite, accepted by the metric, of unit length under the unit-mean rule.
+func checkCenters(c []float64, k, d int, metric distance.Objective) error {
+	for j := range k {
+		row := c[j*d : (j+1)*d]
+		if err := distance.CheckRow(metric, row); err != nil {
+			return fmt.Errorf("%w: center %d: %w", ErrModel, j, err)
+		}
+		if metric.Rule() == distance.UnitMeanRule {
+			var s float64
+			for _, v := range row {
+				s += v * v
+			}
+			if math.Abs(math.Sqrt(s)-1) > 1e-6 {
+				return fmt.Errorf("%w: center %d has norm %v under %s, want 1", ErrModel, j, math.Sqrt(s), metric.Name())
+			}
+		}
+	}
+	return nil
+}
+
+// WithTraining returns a copy of the model that carries the training
+// summary t (copied), for a model made by NewModel. t must hold one entry
+// per cluster whose sizes add up to t.Rows ≥ 1, with finite, non-negative
+// weights, costs and ordered distance quantiles, a positive total weight,
+// and nothing but zeros for a cluster without rows; otherwise it returns an
+// error wrapping ErrModel. A nil t removes the summary.
+func (m *Model) WithTraining(t *Training) (*Model, error) {
+	if m == nil || m.k == 0 {
+		return nil, fmt.Errorf("%w: model has no centers", ErrModel)
+	}
+	c := m.clone()
+	if t == nil {
+		c.training = nil
+		return c, nil
+	}
+	if err := t.check(m.k); err != nil {
+		return nil, err
+	}
+	cp := *t
+	cp.Clusters = append([]ClusterSummary(nil), t.Clusters...)
+	c.training = &cp
+	return c, nil
 }
 
 // K returns the number of clusters.
@@ -751,3 +836,85 @@ func b2i(b bool) int {
 // HasSchema reports whether the model carries feature names (see
 // WithFeatures), which rows given by name need.
 func (m *Model) HasSchema() bool { return m != nil && m.columns != nil }
+
+// Features returns a copy of the feature names (the schema), or nil if the
+// model has none.
+func (m *Model) Features() []string {
+	if m == nil || m.features == nil {
+		return nil
+	}
+	return append([]string(nil), m.features...)
+}
+
+// Column returns the column of the named feature and whether the model's
+// schema has it.
+func (m *Model) Column(name string) (int, bool) {
+	if m == nil {
+		return 0, false
+	}
+	j, ok := m.columns[name]
+	return j, ok
+}
+
+// Created returns the model's creation time in UTC, or the zero time if
+// unknown. Cluster leaves it zero so that its results stay deterministic;
+// set it with WithCreated.
+func (m *Model) Created() time.Time {
+	if m == nil {
+		return time.Time{}
+	}
+	return m.created
+}
+
+// Library returns the version of the library that made the model, or ""
+// for a model decoded from a version 1 document.
+func (m *Model) Library() string {
+	if m == nil {
+		return ""
+	}
+	return m.library
+}
+
+// WithFeatures returns a copy of the model whose schema is names: column j
+// of a raw row is the feature names[j]. Names must be d non-empty, distinct,
+// valid UTF-8 strings of at most MaxFeatureName bytes without control
+// characters; otherwise it returns an error wrapping ErrSchema. A nil names
+// removes the schema.
+func (m *Model) WithFeatures(names []string) (*Model, error) {
+	if m == nil || m.k == 0 {
+		return nil, fmt.Errorf("%w: model has no centers", ErrModel)
+	}
+	c := m.clone()
+	if names == nil {
+		c.features, c.columns = nil, nil
+		return c, nil
+	}
+	cols, err := checkFeatures(names, m.d)
+	if err != nil {
+		return nil, err
+	}
+	c.features, c.columns = append([]string(nil), names...), cols
+	return c, nil
+}
+
+// WithCreated returns a copy of the model whose creation time is t in UTC
+// (monotonic clock reading dropped). The zero time means unknown.
+func (m *Model) WithCreated(t time.Time) *Model {
+	if m == nil {
+		return nil
+	}
+	c := m.clone()
+	c.created = t.UTC()
+	if t.IsZero() {
+		c.created = time.Time{}
+	}
+	return c
+}
+
+// clone returns a shallow copy with a fresh checksum cache. The slices are
+// never written after construction, so sharing them is safe.
+func (m *Model) clone() *Model {
+	c := *m
+	c.digest = new(digest)
+	return &c
+}

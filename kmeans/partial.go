@@ -3,6 +3,8 @@ package kmeans
 import (
 	"fmt"
 	"math"
+
+	"github.com/centroidlab/centroid/distance"
 )
 
 // Partial holds the per-cluster statistics of a block of rows: weighted sums
@@ -101,6 +103,42 @@ func (p *Partial) Mean(dst []float64, j int) bool {
 		dst[i] = v / w
 	}
 	return true
+}
+
+// Centers writes the centers that rule gives for these statistics into dst
+// (K×D row-major, len ≥ K·D) and returns, in increasing order, the clusters
+// that get none (no weight, or a zero sum under UnitMeanRule); their rows
+// of dst are left unchanged. MeanRule gives the weighted mean Sum_j/Weight_j;
+// UnitMeanRule the sum of the members' unit rows renormalised to unit length
+// (spherical k-means), which is why the Cosine sums are of unit rows.
+//
+// MedianRule returns an error wrapping ErrMetric: a coordinate-wise median
+// is not a function of sums, so Partials cannot carry it. A caller that
+// splits the rows (streaming, a distributed engine) and wants k-medians
+// must bring each cluster's members, or per-cluster value counts fine
+// enough to read the median from, to one place per coordinate; Cluster does
+// this in memory. It panics if len(dst) < K·D.
+func (p *Partial) Centers(dst []float64, rule distance.CenterRule) (empty []int, err error) {
+	if len(dst) < p.K*p.D {
+		panic("kmeans: Partial.Centers dst shorter than K·D")
+	}
+	var center func(dst []float64, j int) bool
+	switch rule {
+	case distance.MeanRule:
+		center = p.Mean
+	case distance.UnitMeanRule:
+		center = p.unitMean
+	case distance.MedianRule:
+		return nil, fmt.Errorf("%w: the median center rule is not mergeable from sums", ErrMetric)
+	default:
+		return nil, fmt.Errorf("%w: unknown center rule %v", ErrMetric, rule)
+	}
+	for j := range p.K {
+		if !center(dst[j*p.D:(j+1)*p.D], j) {
+			empty = append(empty, j)
+		}
+	}
+	return empty, nil
 }
 
 // unitMean writes Sum_j/‖Sum_j‖ into dst and reports whether the norm is

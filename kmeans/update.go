@@ -19,23 +19,12 @@ import (
 // already taken, so no two repaired centers coincide. Such a row always
 // exists because K never exceeds the number of distinct rows.
 func (r *run) update(next []float64, st *Step, merged *Partial) {
-	sp, k, d := r.sp, r.k, r.sp.D
+	sp := r.sp
 	var empty []int
-	switch sp.Rule {
-	case distance.MeanRule:
-		for j := range k {
-			if !merged.Mean(next[j*d:(j+1)*d], j) {
-				empty = append(empty, j)
-			}
-		}
-	case distance.UnitMeanRule:
-		for j := range k {
-			if !merged.unitMean(next[j*d:(j+1)*d], j) {
-				empty = append(empty, j)
-			}
-		}
-	case distance.MedianRule:
+	if sp.Rule == distance.MedianRule {
 		empty = r.medians(next, st.Assign, merged)
+	} else {
+		empty, _ = merged.Centers(next, sp.Rule) // mean rules cannot fail
 	}
 	if len(empty) > 0 {
 		r.repair(next, st, empty)

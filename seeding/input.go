@@ -6,6 +6,8 @@ import (
 	"math/rand/v2"
 	"unsafe"
 
+	"github.com/centroidlab/centroid/internal/check"
+
 	"github.com/centroidlab/centroid/distance"
 	"gonum.org/v1/gonum/mat"
 )
@@ -21,9 +23,9 @@ type input struct {
 	dst     *mat.Dense
 }
 
-// check validates the arguments of Seed and returns them in a form the
+// checkInput validates the arguments of Seed and returns them in a form the
 // seeders can use without copying data.
-func check(dst, data *mat.Dense, weights []float64, m distance.Metric, rnd *rand.Rand) (*input, error) {
+func checkInput(dst, data *mat.Dense, weights []float64, m distance.Metric, rnd *rand.Rand) (*input, error) {
 	if dst == nil {
 		return nil, fmt.Errorf("%w: nil dst", ErrShape)
 	}
@@ -73,25 +75,17 @@ func check(dst, data *mat.Dense, weights []float64, m distance.Metric, rnd *rand
 // checkWeights returns the number of rows with positive weight, or an error
 // wrapping ErrWeights.
 func (in *input) checkWeights() (int, error) {
+	if _, err := check.Weights(in.w, in.n, ErrWeights); err != nil {
+		return 0, err
+	}
 	if in.w == nil {
 		return in.n, nil
 	}
 	positive := 0
-	var sum float64
-	for i, v := range in.w {
-		if math.IsNaN(v) || math.IsInf(v, 0) || v < 0 {
-			return 0, fmt.Errorf("%w: weights[%d] = %v, want finite and ≥ 0", ErrWeights, i, v)
-		}
+	for _, v := range in.w {
 		if v > 0 {
 			positive++
-			sum += v
 		}
-	}
-	if positive == 0 {
-		return 0, fmt.Errorf("%w: all weights are zero", ErrWeights)
-	}
-	if math.IsInf(sum, 1) {
-		return 0, fmt.Errorf("%w: the sum of the weights overflows", ErrWeights)
 	}
 	return positive, nil
 }

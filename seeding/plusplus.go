@@ -2,9 +2,10 @@ package seeding
 
 import (
 	"fmt"
-	"github.com/centroidlab/centroid/internal/blocks"
 	"math"
 	"math/rand/v2"
+
+	"github.com/centroidlab/centroid/internal/blocks"
 
 	"github.com/centroidlab/centroid/distance"
 	"gonum.org/v1/gonum/mat"
@@ -89,7 +90,7 @@ func (p PlusPlus) Seed(dst *mat.Dense, data *mat.Dense, weights []float64, m dis
 	if p.Workers < 0 {
 		return fmt.Errorf("%w: PlusPlus.Workers = %d, want ≥ 0", ErrParameter, p.Workers)
 	}
-	in, err := check(dst, data, weights, m, rnd)
+	in, err := checkInput(dst, data, weights, m, rnd)
 	if err != nil {
 		return err
 	}

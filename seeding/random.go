@@ -2,8 +2,9 @@ package seeding
 
 import (
 	"fmt"
-	"github.com/centroidlab/centroid/internal/rowset"
 	"math/rand/v2"
+
+	"github.com/centroidlab/centroid/internal/rowset"
 
 	"github.com/centroidlab/centroid/distance"
 	"gonum.org/v1/gonum/mat"
@@ -35,7 +36,7 @@ type Random struct{}
 
 // Seed implements Seeder.
 func (Random) Seed(dst *mat.Dense, data *mat.Dense, weights []float64, m distance.Metric, rnd *rand.Rand) error {
-	in, err := check(dst, data, weights, m, rnd)
+	in, err := checkInput(dst, data, weights, m, rnd)
 	if err != nil {
 		return err
 	}

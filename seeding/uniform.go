@@ -2,9 +2,10 @@ package seeding
 
 import (
 	"fmt"
-	"github.com/centroidlab/centroid/internal/rowset"
 	"math"
 	"math/rand/v2"
+
+	"github.com/centroidlab/centroid/internal/rowset"
 
 	"github.com/centroidlab/centroid/distance"
 	"gonum.org/v1/gonum/mat"
@@ -34,7 +35,7 @@ type Uniform struct{}
 
 // Seed implements Seeder.
 func (Uniform) Seed(dst *mat.Dense, data *mat.Dense, weights []float64, m distance.Metric, rnd *rand.Rand) error {
-	in, err := check(dst, data, weights, m, rnd)
+	in, err := checkInput(dst, data, weights, m, rnd)
 	if err != nil {
 		return err
 	}

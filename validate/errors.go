@@ -18,4 +18,10 @@ var (
 	ErrClusters = errors.New("validate: index undefined for this number of clusters")
 	// ErrParameter means an option is out of range.
 	ErrParameter = errors.New("validate: invalid parameter")
+	// ErrRow means a row index is outside the rows of the reference
+	// labelling (ClusterJaccard).
+	ErrRow = errors.New("validate: row index out of range")
+	// ErrNoKnee means Knee found no knee: the curve is too straight for the
+	// chosen sensitivity, or constant. It is an outcome, not bad input.
+	ErrNoKnee = errors.New("validate: no knee found")
 )

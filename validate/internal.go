@@ -8,6 +8,8 @@ import (
 	"sync"
 	"sync/atomic"
 
+	"github.com/centroidlab/centroid/internal/check"
+
 	"gonum.org/v1/gonum/mat"
 
 	"github.com/centroidlab/centroid/distance"
@@ -32,15 +34,9 @@ func (v *rowView) row(i int) []float64 {
 // viewRows returns a view of X or an error wrapping ErrEmpty for a nil or
 // empty matrix.
 func viewRows(X mat.Matrix) (*rowView, error) {
-	if X == nil {
-		return nil, fmt.Errorf("%w: nil data", ErrEmpty)
-	}
-	if d, ok := X.(*mat.Dense); ok && (d == nil || d.IsEmpty()) {
-		return nil, fmt.Errorf("%w: empty data", ErrEmpty)
-	}
-	n, d := X.Dims()
-	if n == 0 || d == 0 {
-		return nil, fmt.Errorf("%w: data is %d×%d", ErrEmpty, n, d)
+	n, d, err := check.Matrix(X, ErrEmpty)
+	if err != nil {
+		return nil, err
 	}
 	if rm, ok := X.(mat.RawMatrixer); ok {
 		g := rm.RawMatrix()
@@ -48,12 +44,7 @@ func viewRows(X mat.Matrix) (*rowView, error) {
 			return &rowView{n: n, d: d, stride: g.Stride, data: g.Data}, nil
 		}
 	}
-	data := make([]float64, n*d)
-	for i := range n {
-		for j := range d {
-			data[i*d+j] = X.At(i, j)
-		}
-	}
+	data, _ := check.RowMajor(X)
 	return &rowView{n: n, d: d, stride: d, data: data}, nil
 }
 
@@ -62,10 +53,11 @@ func viewRows(X mat.Matrix) (*rowView, error) {
 func (v *rowView) checkFinite() error {
 	v.maxAbs = 0
 	for i := range v.n {
-		for j, x := range v.row(i) {
-			if math.IsNaN(x) || math.IsInf(x, 0) {
-				return fmt.Errorf("%w: element (%d, %d) is %v", ErrNotFinite, i, j, x)
-			}
+		row := v.row(i)
+		if err := check.FiniteRow(row, ErrNotFinite); err != nil {
+			return fmt.Errorf("row %d: %w", i, err)
+		}
+		for _, x := range row {
 			v.maxAbs = max(v.maxAbs, math.Abs(x))
 		}
 	}

@@ -5,15 +5,10 @@ import (
 	"crypto/sha256"
 	"encoding/hex"
 	"encoding/json"
-	"errors"
 	"fmt"
 	"io"
-	"math"
-	"strings"
 	"sync"
 	"time"
-	"unicode"
-	"unicode/utf8"
 
 	"github.com/centroidlab/centroid/distance"
 	"github.com/centroidlab/centroid/scale"
@@ -84,189 +79,6 @@ func ReadModel(r io.Reader, lim *DecodeLimits) (*Model, error) {
 	return decodeModel(b, l)
 }
 
-// Training summarises the rows a Model was made from, measured in the
-// clustering space by Cluster from the final assignments.
-type Training struct {
-	// Rows is the number of rows clustered, weight-zero rows included.
-	Rows int
-	// Clusters holds one summary per cluster.
-	Clusters []ClusterSummary
-}
-
-// ClusterSummary describes the training members of one cluster.
-type ClusterSummary struct {
-	// Size is the number of rows assigned to the cluster.
-	Size int
-	// Weight is their total weight (equal to Size without weights).
-	Weight float64
-	// Cost is the cluster's share of Result.Cost.
-	Cost float64
-	// Distances are quantiles of the members' distances to the center.
-	Distances Quantiles
-}
-
-// Quantiles of the distances from a cluster's members to its center, in
-// the clustering space and in the units of Model.Nearest. Only members of
-// positive weight count, each as often as its weight: the q-quantile is the
-// smallest member distance v such that the members at distance ≤ v hold at
-// least the fraction q of the cluster's weight (the inverse of the weighted
-// empirical distribution function; without weights the ⌈q·n⌉-th smallest
-// of n distances). All are zero for a cluster without weight.
-type Quantiles struct {
-	P50, P90, P99 float64
-	Max           float64
-}
-
-// Shares returns each cluster's share of the total training weight.
-func (t *Training) Shares() []float64 {
-	s := make([]float64, len(t.Clusters))
-	var total float64
-	for _, c := range t.Clusters {
-		total += c.Weight
-	}
-	for j, c := range t.Clusters {
-		s[j] = c.Weight / total
-	}
-	return s
-}
-
-// Cost returns the total cost, the sum of the clusters' costs in order.
-func (t *Training) Cost() float64 {
-	var s float64
-	for _, c := range t.Clusters {
-		s += c.Cost
-	}
-	return s
-}
-
-// Training returns a copy of the training summary, or nil if the model has
-// none (it was decoded from a version 1 document).
-func (m *Model) Training() *Training {
-	if m == nil || m.training == nil {
-		return nil
-	}
-	t := *m.training
-	t.Clusters = append([]ClusterSummary(nil), t.Clusters...)
-	return &t
-}
-
-// Features returns a copy of the feature names (the schema), or nil if the
-// model has none.
-func (m *Model) Features() []string {
-	if m == nil || m.features == nil {
-		return nil
-	}
-	return append([]string(nil), m.features...)
-}
-
-// Column returns the column of the named feature and whether the model's
-// schema has it.
-func (m *Model) Column(name string) (int, bool) {
-	if m == nil {
-		return 0, false
-	}
-	j, ok := m.columns[name]
-	return j, ok
-}
-
-// Created returns the model's creation time in UTC, or the zero time if
-// unknown. Cluster leaves it zero so that its results stay deterministic;
-// set it with WithCreated.
-func (m *Model) Created() time.Time {
-	if m == nil {
-		return time.Time{}
-	}
-	return m.created
-}
-
-// Library returns the version of the library that made the model, or ""
-// for a model decoded from a version 1 document.
-func (m *Model) Library() string {
-	if m == nil {
-		return ""
-	}
-	return m.library
-}
-
-// WithFeatures returns a copy of the model whose schema is names: column j
-// of a raw row is the feature names[j]. Names must be d non-empty, distinct,
-// valid UTF-8 strings of at most MaxFeatureName bytes without control
-// characters; otherwise it returns an error wrapping ErrSchema. A nil names
-// removes the schema.
-func (m *Model) WithFeatures(names []string) (*Model, error) {
-	if m == nil || m.k == 0 {
-		return nil, fmt.Errorf("%w: model has no centers", ErrModel)
-	}
-	c := m.clone()
-	if names == nil {
-		c.features, c.columns = nil, nil
-		return c, nil
-	}
-	cols, err := checkFeatures(names, m.d)
-	if err != nil {
-		return nil, err
-	}
-	c.features, c.columns = append([]string(nil), names...), cols
-	return c, nil
-}
-
-// WithCreated returns a copy of the model whose creation time is t in UTC
-// (monotonic clock reading dropped). The zero time means unknown.
-func (m *Model) WithCreated(t time.Time) *Model {
-	if m == nil {
-		return nil
-	}
-	c := m.clone()
-	c.created = t.UTC()
-	if t.IsZero() {
-		c.created = time.Time{}
-	}
-	return c
-}
-
-// clone returns a shallow copy with a fresh checksum cache. The slices are
-// never written after construction, so sharing them is safe.
-func (m *Model) clone() *Model {
-	c := *m
-	c.digest = new(digest)
-	return &c
-}
-
-// checkFeatures validates a schema of d names and returns the name → column
-// map.
-func checkFeatures(names []string, d int) (map[string]int, error) {
-	if len(names) != d {
-		return nil, fmt.Errorf("%w: %d feature names for %d columns", ErrSchema, len(names), d)
-	}
-	cols := make(map[string]int, d)
-	for j, name := range names {
-		if err := checkName(name, MaxFeatureName); err != nil {
-			return nil, fmt.Errorf("%w: feature %d: %v", ErrSchema, j, err)
-		}
-		if i, dup := cols[name]; dup {
-			return nil, fmt.Errorf("%w: features %d and %d are both named %q", ErrSchema, i, j, name)
-		}
-		cols[name] = j
-	}
-	return cols, nil
-}
-
-// checkName checks a stored name: non-empty, at most max bytes, valid UTF-8
-// without control characters.
-func checkName(s string, max int) error {
-	switch {
-	case s == "":
-		return errors.New("empty name")
-	case len(s) > max:
-		return fmt.Errorf("name of %d bytes, longer than %d", len(s), max)
-	case !utf8.ValidString(s):
-		return fmt.Errorf("name %q is not valid UTF-8", s)
-	case strings.IndexFunc(s, unicode.IsControl) >= 0:
-		return fmt.Errorf("name %q holds a control character", s)
-	}
-	return nil
-}
-
 // digest caches a model's checksum; it is computed at most once.
 type digest struct {
 	once sync.Once
@@ -300,64 +112,6 @@ func checksumOf(canon []byte) string {
 }
 
 const checksumPrefix = "sha256:"
-
-// number is a float64 that, unlike a plain float64, rejects JSON null
-// (which encoding/json would silently skip).
-type number float64
-
-// UnmarshalJSON decodes a JSON number and rejects null.
-func (n *number) UnmarshalJSON(b []byte) error {
-	if string(b) == "null" {
-		return errors.New("null where a number is required")
-	}
-	return json.Unmarshal(b, (*float64)(n))
-}
-
-// numbers is a JSON array of numbers that rejects null entries.
-type numbers []number
-
-// modelDocV1 is the version 1 document.
-type modelDocV1 struct {
-	Format  string          `json:"format"`
-	Version int             `json:"version"`
-	Metric  string          `json:"metric"`
-	K       int             `json:"k"`
-	Dim     int             `json:"dim"`
-	Centers []numbers       `json:"centers"`
-	Scaler  json.RawMessage `json:"scaler"`
-}
-
-// modelDoc is the version 2 document. Its field order is the canonical
-// order; Checksum must stay last (MarshalJSON splices it in).
-type modelDoc struct {
-	Format   string          `json:"format"`
-	Version  int             `json:"version"`
-	Library  string          `json:"library,omitempty"`
-	Created  string          `json:"created,omitempty"`
-	Metric   string          `json:"metric"`
-	K        int             `json:"k"`
-	Dim      int             `json:"dim"`
-	Features []string        `json:"features,omitempty"`
-	Scaler   json.RawMessage `json:"scaler"`
-	Centers  []numbers       `json:"centers"`
-	Training *trainingDoc    `json:"training,omitempty"`
-	Checksum string          `json:"checksum"`
-}
-
-type trainingDoc struct {
-	Rows     int          `json:"rows"`
-	Clusters []clusterDoc `json:"clusters"`
-}
-
-type clusterDoc struct {
-	Size   int    `json:"size"`
-	Weight number `json:"weight"`
-	Cost   number `json:"cost"`
-	P50    number `json:"p50"`
-	P90    number `json:"p90"`
-	P99    number `json:"p99"`
-	Max    number `json:"max"`
-}
 
 // document returns the version 2 document of m with an empty checksum.
 func (m *Model) document() (*modelDoc, error) {
@@ -541,18 +295,9 @@ func buildModel(metricName string, k, dim int, rows []numbers, scRaw json.RawMes
 		for _, v := range c {
 			centers = append(centers, float64(v))
 		}
-		if err := distance.CheckRow(obj, centers[j*dim:]); err != nil {
-			return nil, fmt.Errorf("%w: center %d: %w", ErrModel, j, err)
-		}
-		if obj.Rule() == distance.UnitMeanRule {
-			var s float64
-			for _, v := range centers[j*dim:] {
-				s += v * v
-			}
-			if math.Abs(math.Sqrt(s)-1) > 1e-6 {
-				return nil, fmt.Errorf("%w: center %d has norm %v under %s, want 1", ErrModel, j, math.Sqrt(s), metricName)
-			}
-		}
+	}
+	if err := checkCenters(centers, k, dim, obj); err != nil {
+		return nil, err
 	}
 	var sc scale.Scaler
 	if len(scRaw) > 0 {
@@ -618,46 +363,15 @@ func decodeV2(doc *modelDoc, lim DecodeLimits) (*Model, error) {
 	return m, nil
 }
 
-// decodeTraining checks a training summary of k clusters.
+// decodeTraining converts and checks a training summary of k clusters.
 func decodeTraining(td *trainingDoc, k int) (*Training, error) {
-	bad := func(format string, args ...any) error {
-		return fmt.Errorf("%w: training: %s", ErrModel, fmt.Sprintf(format, args...))
-	}
-	if td.Rows < 1 {
-		return nil, bad("rows = %d", td.Rows)
-	}
-	if len(td.Clusters) != k {
-		return nil, bad("%d clusters, model has %d", len(td.Clusters), k)
-	}
-	t := &Training{Rows: td.Rows, Clusters: make([]ClusterSummary, k)}
-	rows := 0
-	var weight float64
+	t := &Training{Rows: td.Rows, Clusters: make([]ClusterSummary, len(td.Clusters))}
 	for j, c := range td.Clusters {
-		if c.Size < 0 || c.Size > td.Rows-rows {
-			return nil, bad("cluster %d: size %d does not fit %d rows", j, c.Size, td.Rows)
-		}
-		rows += c.Size
-		vals := []float64{float64(c.Weight), float64(c.Cost), float64(c.P50), float64(c.P90), float64(c.P99), float64(c.Max)}
-		for _, v := range vals {
-			if !(v >= 0) || math.IsInf(v, 1) {
-				return nil, bad("cluster %d: value %v, want finite and ≥ 0", j, v)
-			}
-		}
-		if !(c.P50 <= c.P90 && c.P90 <= c.P99 && c.P99 <= c.Max) {
-			return nil, bad("cluster %d: quantiles %v ≤ %v ≤ %v ≤ %v out of order", j, c.P50, c.P90, c.P99, c.Max)
-		}
-		if c.Size == 0 && (c.Weight != 0 || c.Cost != 0 || c.Max != 0) {
-			return nil, bad("cluster %d: no rows but weight, cost or distances", j)
-		}
-		weight += float64(c.Weight)
 		t.Clusters[j] = ClusterSummary{Size: c.Size, Weight: float64(c.Weight), Cost: float64(c.Cost),
 			Distances: Quantiles{P50: float64(c.P50), P90: float64(c.P90), P99: float64(c.P99), Max: float64(c.Max)}}
 	}
-	if rows != td.Rows {
-		return nil, bad("sizes add up to %d, rows = %d", rows, td.Rows)
-	}
-	if !(weight > 0) || math.IsInf(weight, 1) {
-		return nil, bad("total weight %v", weight)
+	if err := t.check(k); err != nil {
+		return nil, err
 	}
 	return t, nil
 }

@@ -6,41 +6,8 @@ import (
 	"sync"
 
 	"github.com/centroidlab/centroid/distance"
+	"github.com/centroidlab/centroid/internal/nearest"
 )
-
-// This file holds what the bound-based solvers (Elkan, Hamerly, Yinyang)
-// share: the metric check, conservative floating-point bounds and scratch.
-//
-// # Exactness under floating point
-//
-// The solvers keep, per row, an upper bound on the true distance to its
-// center and lower bounds on the true distances to other centers, and skip
-// a center j only when a lower bound of δ_j provably exceeds an upper bound
-// of δ_a, the distance to the row's current best center a. With u = 2⁻⁵³,
-// a directly computed loss (Σ(x_t−c_t)² for Euclidean, Σ|x_t−c_t| for
-// Manhattan, in any summation order) is within (d+2)·u of the true value,
-// relatively, apart from underflow. Every bound is therefore rounded
-// outwards by the relative epsilon E = 4·(d+8)·u (up: ×(1+E), down: ×(1−E),
-// clamped at zero), which also covers the rounding of the additions and
-// subtractions that move the bounds, and a center is skipped only if
-//
-//	lower > upper·(1+E) + 2⁻⁵⁰⁰
-//
-// (beats). Then δ_j > δ_a·(1+E) + 2⁻⁵⁰⁰, hence the computed losses satisfy
-// f_j > f_a strictly: j can neither be nearer nor tie with a. Every center
-// that is not skipped has its loss computed directly (Space.Loss, the very
-// function Lloyd uses) and compared as Lloyd does: the smaller loss wins,
-// the lower index on equal losses. So the assignments equal Lloyd's bit for
-// bit. The absolute term covers underflow (each of the d terms of a loss
-// loses at most 2⁻¹⁰⁷⁴).
-//
-// Bounds are stored as float32, rounded outwards (lo32, hi32), which halves
-// their memory; bounds beyond the float32 range become 0 (lower) or +Inf
-// (upper), which only costs pruning.
-//
-// Overflow would break the relative error model (an infinite loss says
-// nothing about the distance), so when any |x| or weight exceeds 2⁴⁰⁰ the
-// bound solvers run Lloyd's pass instead (same answer, no pruning).
 
 // tauBound is the absolute slack of beats, far above underflow errors.
 const tauBound = 0x1p-500
@@ -301,3 +268,111 @@ func growFloats(s []float64, n int) []float64 {
 
 // inf is +Inf.
 var inf = math.Inf(1)
+
+// kernelTile returns how many rows a kernel pass loads at a time: about
+// 64 KiB of shifted rows, a multiple of four between 16 and 256.
+func kernelTile(d int) int { return min(256, max(16, (8192/d)&^3)) }
+
+// scratch is one goroutine's working memory inside Space.Parallel.
+type scratch struct {
+	s      nearest.Searcher
+	res    []int
+	f      []float64 // k: losses of one row (Hamerly)
+	groupV []float64 // per group: new lower bounds of one row (Yinyang)
+	old    []float64 // per group: lower bounds before the pass (Yinyang)
+	m1, m2 []float64 // per group: two smallest member lower bounds
+	i1     []int     // per group: member with the smallest lower bound
+}
+
+// grouping partitions the k centers into t groups: group g holds the
+// centers order[start[g]:start[g+1]]; group[j] is center j's group.
+type grouping struct {
+	t     int
+	order []int
+	start []int
+	group []int
+}
+
+// oneGroup puts all k centers in one group.
+func oneGroup(k int) *grouping {
+	g := &grouping{t: 1, order: make([]int, k), start: []int{0, k}, group: make([]int, k)}
+	for j := range g.order {
+		g.order[j] = j
+	}
+	return g
+}
+
+// members returns the centers of group g.
+func (g *grouping) members(q int) []int { return g.order[g.start[q]:g.start[q+1]] }
+
+// firstPass assigns every row for the first time and sets its bounds:
+// upper[i] ≥ δ(x_i, c_a) and lower[i·t+g] ≤ min{δ(x_i, c_j) : j in group g,
+// j ≠ a} (+Inf for a group with no such j). It runs an Elkan-style scan: centers in index order, a
+// center skipped when half its distance to the best center so far exceeds
+// that center's distance (its lower bound is then 2h − u), so that on
+// clustered data most distances are never computed.
+func (b *bounds) firstPass(st *Step, grp *grouping, upper, lower []float32, pool *scratchPool[scratch]) {
+	k, t := b.k, grp.t
+	b.halves(st.Centers)
+	b.eachBlock(st, pool, func(ks *scratch, part *Partial, lo, hi int) (moved, evals int) {
+		ks.growGroups(t)
+		for i := lo; i < hi; i++ {
+			for g := range t {
+				ks.m1[g], ks.m2[g], ks.i1[g] = inf, inf, -1
+			}
+			record := func(j int, l float64) {
+				g := grp.group[j]
+				switch {
+				case l < ks.m1[g]:
+					ks.m1[g], ks.m2[g], ks.i1[g] = l, ks.m1[g], j
+				case l < ks.m2[g]:
+					ks.m2[g] = l
+				}
+			}
+			a, fa := 0, b.rowLoss(i, st.Centers, 0)
+			evals++
+			da := b.dist(fa)
+			u := b.up(da)
+			record(0, b.down(da))
+			for j := 1; j < k; j++ {
+				if h := b.half[a*k+j]; b.beats(h, u) {
+					record(j, b.down(2*h-u)) // δ_j ≥ 2h − δ_a ≥ 2h − u
+					continue
+				}
+				fj := b.rowLoss(i, st.Centers, j)
+				evals++
+				dj := b.dist(fj)
+				record(j, b.down(dj))
+				if less(fj, j, fa, a) {
+					a, fa, u = j, fj, b.up(dj)
+				}
+			}
+			L := lower[i*t : (i+1)*t]
+			for g := range t {
+				v := ks.m1[g]
+				if ks.i1[g] == a {
+					v = ks.m2[g]
+				}
+				L[g] = lo32(v)
+			}
+			upper[i] = hi32(u)
+			mv, _ := b.settle(st, part, i, a, fa, true)
+			moved += mv
+		}
+		return moved, evals
+	})
+}
+
+// growGroups sizes the per-group scratch for t groups.
+func (ks *scratch) growGroups(t int) {
+	ks.m1 = growFloats(ks.m1, t)
+	ks.m2 = growFloats(ks.m2, t)
+	ks.i1 = growInts(ks.i1, t)
+}
+
+func growInts(s []int, n int) []int {
+	if cap(s) < n {
+		return make([]int, n)
+	}
+	return s[:n]
+}
