@@ -150,7 +150,7 @@ func runRestart(ctx context.Context, sp *Space, k, restart int, seeder seeding.S
 	centers := mat.NewDense(k, d, nil)
 	// A parallel seeder runs on this restart's goroutines unless told
 	// otherwise; its centers do not depend on the number.
-	if ps, ok := seeder.(seeding.Parallel); ok {
+	if ps, ok := seeder.(seeding.Concurrent); ok {
 		seeder = ps.WithWorkers(sp.Workers())
 	}
 	if err := seeder.Seed(centers, mat.NewDense(sp.N, d, sp.X), sp.W, sp.Metric, rnd); err != nil {

@@ -58,7 +58,7 @@ type PlusPlus struct {
 }
 
 // WithWorkers returns p with Workers = n if p.Workers is zero, else p
-// (see Parallel).
+// (see Concurrent).
 func (p PlusPlus) WithWorkers(n int) Seeder {
 	if p.Workers == 0 {
 		p.Workers = n
@@ -66,7 +66,7 @@ func (p PlusPlus) WithWorkers(n int) Seeder {
 	return p
 }
 
-var _ Parallel = PlusPlus{}
+var _ Concurrent = PlusPlus{}
 
 // candidates returns the number of draws per step for k centers.
 func (p PlusPlus) candidates(k int) int {

@@ -26,11 +26,11 @@ type Seeder interface {
 	Seed(dst *mat.Dense, data *mat.Dense, weights []float64, m distance.Metric, rnd *rand.Rand) error
 }
 
-// Parallel is implemented by seeders that can spread their work over
+// Concurrent is implemented by seeders that can spread their work over
 // several goroutines without changing their centers. kmeans.Cluster calls
 // WithWorkers with its goroutines per restart, so a seeder left at its
 // zero value uses them.
-type Parallel interface {
+type Concurrent interface {
 	Seeder
 	// WithWorkers returns the seeder with n goroutines, or the seeder
 	// itself if it already has a number of its own.
