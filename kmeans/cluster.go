@@ -8,6 +8,7 @@ import (
 	"math/rand/v2"
 	"sync"
 
+	"github.com/centroidlab/centroid/internal/blocks"
 	"github.com/centroidlab/centroid/internal/check"
 	"github.com/centroidlab/centroid/seeding"
 	"gonum.org/v1/gonum/mat"
@@ -25,11 +26,25 @@ import (
 // the lowest cost wins, ties going to the lowest restart index. The result
 // is bit-identical for any s.Workers.
 //
-// If ctx is cancelled, Cluster returns the best result reached so far (with
-// Status Canceled) together with ctx.Err(); if no pass completed the result
-// is nil. Bad input returns a nil result and an error wrapping ErrData, ErrK,
-// ErrWeights, ErrMetric, ErrSettings or ErrSeeding. Cluster never modifies
-// p.Data, p.Weights or p.Scaler.
+// # Cancellation
+//
+// ctx is checked inside seeding (by a seeding.ContextSeeder such as
+// seeding.PlusPlus) and between the row blocks of every pass, so Cluster
+// returns within about one block of work after ctx ends. It then returns
+// the best result reached so far with Status Canceled, together with
+// ctx.Err(): the lowest-cost restart among those that completed at least
+// one pass, each taken at its last complete pass (its assignments are the
+// nearest of its returned centers). If no pass completed the result is
+// nil.
+//
+// # Errors
+//
+// Bad input returns a nil result and an error wrapping ErrData, ErrK,
+// ErrWeights, ErrMetric, ErrSettings, ErrSeeding or ErrSchema. A cost that
+// overflows float64 returns ErrData. A panic inside code the caller
+// supplied (Seeder, Metric, Scaler, Method, Settings.Progress) is
+// recovered and returned as an error wrapping ErrPanic that names what
+// panicked. Cluster never modifies p.Data, p.Weights or p.Scaler.
 func Cluster(ctx context.Context, p Problem, s *Settings, m Method) (*Result, error) {
 	set, err := s.Resolve()
 	if err != nil {
@@ -37,6 +52,16 @@ func Cluster(ctx context.Context, p Problem, s *Settings, m Method) (*Result, er
 	}
 	if p.K < 1 {
 		return nil, fmt.Errorf("%w: K = %d", ErrK, p.K)
+	}
+	if check.NilPointer(m) {
+		return nil, fmt.Errorf("%w: method is a nil %T", ErrSettings, m)
+	}
+	seeder := p.Seeder
+	if seeder == nil {
+		seeder = seeding.PlusPlus{}
+	}
+	if check.NilPointer(seeder) {
+		return nil, fmt.Errorf("%w: seeder is a nil %T", ErrSeeding, seeder)
 	}
 	sp, err := NewSpace(p)
 	if err != nil {
@@ -51,13 +76,9 @@ func Cluster(ctx context.Context, p Problem, s *Settings, m Method) (*Result, er
 
 	conc := min(set.Restarts, set.Workers)
 	sp.workers = max(1, set.Workers/conc)
-	seeder := p.Seeder
-	if seeder == nil {
-		seeder = seeding.PlusPlus{}
-	}
 
 	var (
-		mu       sync.Mutex // guards best, firstErr, progress calls
+		mu       sync.Mutex // guards best, firstErr, stats, progress calls
 		best     *outcome
 		firstErr error
 		stats    = Stats{RestartIterations: make([]int, set.Restarts), RestartCosts: make([]float64, set.Restarts)}
@@ -83,9 +104,12 @@ func Cluster(ctx context.Context, p Problem, s *Settings, m Method) (*Result, er
 			mu.Lock()
 			defer mu.Unlock()
 			if err != nil {
-				if firstErr == nil {
+				if firstErr == nil || (errors.Is(firstErr, context.Canceled) && !errors.Is(err, context.Canceled)) {
 					firstErr = err
 				}
+				return
+			}
+			if o == nil { // cancelled before a pass completed
 				return
 			}
 			stats.Distances += o.distances
@@ -99,18 +123,21 @@ func Cluster(ctx context.Context, p Problem, s *Settings, m Method) (*Result, er
 		})
 	}
 	wg.Wait()
-	if firstErr != nil {
+	if firstErr != nil && (ctx.Err() == nil || !isStop(firstErr)) {
 		return nil, firstErr
 	}
 	if best == nil {
-		return nil, ctx.Err()
+		if err := ctx.Err(); err != nil {
+			return nil, err
+		}
+		return nil, firstErr
 	}
 	stats.Method = methodName(m)
 	res := sp.result(best, p.K, stats)
 	if p.Features != nil {
 		m, err := res.Model.WithFeatures(p.Features)
 		if err != nil {
-			return nil, err // unreachable: checked in prepare
+			return nil, err // unreachable: checked by NewSpace
 		}
 		res.Model = m
 	}
@@ -119,6 +146,12 @@ func Cluster(ctx context.Context, p Problem, s *Settings, m Method) (*Result, er
 		return res, cerr
 	}
 	return res, nil
+}
+
+// isStop reports whether err says a restart stopped because the context
+// ended (not a failure of its own).
+func isStop(err error) bool {
+	return errors.Is(err, context.Canceled) || errors.Is(err, context.DeadlineExceeded)
 }
 
 // outcome is the end state of one restart.
@@ -144,17 +177,35 @@ type run struct {
 	repairs   int
 }
 
-func runRestart(ctx context.Context, sp *Space, k, restart int, seeder seeding.Seeder, m Method, set Settings, progress func(Progress)) (*outcome, error) {
+// runRestart runs restart number restart. It returns a nil outcome and no
+// error when ctx ended before its first pass completed. A panic in the
+// caller's code becomes an error wrapping ErrPanic.
+func runRestart(ctx context.Context, sp *Space, k, restart int, seeder seeding.Seeder, m Method, set Settings, progress func(Progress)) (o *outcome, err error) {
+	stage := fmt.Sprintf("seeder %T", seeder)
+	defer func() {
+		if v := recover(); v != nil {
+			o, err = nil, panicError(fmt.Sprintf("restart %d: %s", restart, stage), v)
+		}
+	}()
 	d := sp.D
 	rnd := rand.New(rand.NewPCG(set.Seed, uint64(restart)))
 	centers := mat.NewDense(k, d, nil)
-	// A parallel seeder runs on this restart's goroutines unless told
+	// A concurrent seeder runs on this restart's goroutines unless told
 	// otherwise; its centers do not depend on the number.
-	if ps, ok := seeder.(seeding.Concurrent); ok {
-		seeder = ps.WithWorkers(sp.Workers())
+	if cs, ok := seeder.(seeding.Concurrent); ok {
+		seeder = cs.WithWorkers(sp.Workers())
 	}
-	if err := seeder.Seed(centers, mat.NewDense(sp.N, d, sp.X), sp.W, sp.Metric, rnd); err != nil {
-		if errors.Is(err, seeding.ErrK) {
+	data := mat.NewDense(sp.N, d, sp.X)
+	if cs, ok := seeder.(seeding.ContextSeeder); ok {
+		err = cs.SeedContext(ctx, centers, data, sp.W, sp.Metric, rnd)
+	} else {
+		err = seeder.Seed(centers, data, sp.W, sp.Metric, rnd)
+	}
+	if err != nil {
+		switch {
+		case ctx.Err() != nil && isStop(err):
+			return nil, nil
+		case errors.Is(err, seeding.ErrK):
 			return nil, fmt.Errorf("%w: %w", ErrK, err)
 		}
 		return nil, fmt.Errorf("%w: %w", ErrSeeding, err)
@@ -166,20 +217,20 @@ func runRestart(ctx context.Context, sp *Space, k, restart int, seeder seeding.S
 	if sp.invNorm != nil {
 		for j := range k {
 			c := cur[j*d : (j+1)*d]
-			var s float64
-			for _, v := range c {
-				s += v * v
-			}
-			if !(s > 0) {
+			n := norm(c)
+			if !(n > 0) {
 				return nil, fmt.Errorf("%w: seeder returned a zero center under cosine", ErrSeeding)
 			}
-			s = math.Sqrt(s)
 			for i := range c {
-				c[i] /= s
+				c[i] /= n
 			}
 		}
 	}
-	pass, err := m.Start(sp, k)
+	// Passes run on a copy of the space that stops between row blocks once
+	// ctx ends; the driver's own passes (cost, repair) always complete.
+	ps := sp.stoppable(ctx.Done())
+	stage = fmt.Sprintf("method %T or metric %T", m, sp.Metric)
+	pass, err := m.Start(ps, k)
 	if err != nil {
 		return nil, err
 	}
@@ -196,14 +247,34 @@ func runRestart(ctx context.Context, sp *Space, k, restart int, seeder seeding.S
 	for i := range st.Assign {
 		st.Assign[i] = -1
 	}
+	// When ctx can end, the assignments of the last complete pass are kept,
+	// because a pass that is cut short has overwritten some of them.
+	var kept []int
+	if ctx.Done() != nil {
+		kept = make([]int, sp.N)
+	}
 	merged := NewPartial(k, d)
 	next := make([]float64, k*d)
 	var prevCost float64
-	o := &outcome{restart: restart}
+	o = &outcome{restart: restart}
 	for it := 1; ; it++ {
 		st.Iteration = it
 		st.Moved.Store(0)
+		if kept != nil && it > 1 {
+			copy(kept, st.Assign)
+		}
 		pass.Assign(st)
+		if ps.wasCut() {
+			if it == 1 {
+				return nil, nil
+			}
+			// Back to the last complete pass: the centers it used and its
+			// assignments.
+			copy(st.Centers, st.Previous)
+			copy(st.Assign, kept)
+			o.status = Canceled
+			break
+		}
 		merged.Reset()
 		for b := range st.Blocks {
 			merged.Merge(&st.Blocks[b])
@@ -211,7 +282,9 @@ func runRestart(ctx context.Context, sp *Space, k, restart int, seeder seeding.S
 		moved := int(st.Moved.Load())
 		cost := merged.TotalCost()
 		if progress != nil {
-			progress(Progress{Restart: restart, Iteration: it, Cost: cost, Moved: moved})
+			stage = "Settings.Progress"
+			progress(Progress{Restart: restart, Iteration: it, Cost: cost * sp.wscale, Moved: moved})
+			stage = fmt.Sprintf("method %T or metric %T", m, sp.Metric)
 		}
 		o.iterations = it
 		switch {
@@ -242,11 +315,26 @@ func runRestart(ctx context.Context, sp *Space, k, restart int, seeder seeding.S
 	o.clusterCost = make([]float64, k)
 	o.cost = sp.exactCost(o.centers, o.assign, k, o.clusterCost)
 	o.distances += int64(sp.N)
+	if math.IsInf(o.cost, 0) || math.IsNaN(o.cost) {
+		return nil, fmt.Errorf("%w: the cost %v is not representable in float64 (the data or the weights are too large: rescale them)", ErrData, o.cost)
+	}
 	return o, nil
 }
 
-// exactCost returns Σ w·loss of every row against its assigned center,
-// reduced in block order; if perCluster is not nil it receives the cost of
+// panicError turns a recovered panic value into an error wrapping
+// ErrPanic that names what panicked.
+func panicError(what string, v any) error {
+	if p, ok := v.(*blocks.Panic); ok {
+		v = p.Value
+	}
+	if e, ok := v.(error); ok {
+		return fmt.Errorf("%w: %s: %w", ErrPanic, what, e)
+	}
+	return fmt.Errorf("%w: %s: %v", ErrPanic, what, v)
+}
+
+// exactCost returns Σ w·loss of every row against its assigned center, in
+// the caller's weights (WeightScale), reduced in block order; if perCluster is not nil it receives the cost of
 // each cluster. Every Method's result is scored by this one function so
 // that equal assignments give equal bits.
 func (sp *Space) exactCost(centers []float64, assign []int, k int, perCluster []float64) float64 {
@@ -268,9 +356,10 @@ func (sp *Space) exactCost(centers []float64, assign []int, k int, perCluster []
 		}
 	}
 	var sum float64
-	for _, v := range total {
-		sum += v
+	for j := range total {
+		sum += total[j]
+		total[j] *= sp.wscale
 	}
 	copy(perCluster, total)
-	return sum
+	return sum * sp.wscale
 }

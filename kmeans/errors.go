@@ -39,6 +39,10 @@ var (
 	// ErrIterationLimit is Status.Err for IterationLimit: a restart ran
 	// Settings.MaxIterations passes without reaching a fixed point.
 	ErrIterationLimit = errors.New("kmeans: iteration limit reached before convergence")
+	// ErrPanic means code the caller supplied (a Seeder, Metric, Scaler,
+	// Method or progress callback) panicked; the error names it and holds
+	// the panic value.
+	ErrPanic = errors.New("kmeans: caller-supplied code panicked")
 	// ErrNotTerminated is Status.Err for a run that has not stopped.
 	ErrNotTerminated = errors.New("kmeans: run not terminated")
 )

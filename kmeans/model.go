@@ -490,7 +490,11 @@ func (m *Model) eachRow(X mat.Matrix, n int, fn func(i int, row []float64) error
 }
 
 // Distances writes the distance from the raw row x to every center, in the
-// clustering space, into dst (len K; nil allocates) and returns it.
+// clustering space, into dst (len K; nil allocates) and returns it. It
+// checks x as Nearest does: an error wrapping ErrDimension for a row of
+// the wrong length, ErrNotFinite for NaN or ±Inf in x, after scaling, or in
+// a distance that overflows, ErrMetric for a row the metric rejects, and
+// ErrModel for a zero Model. It allocates the scaled row.
 func (m *Model) Distances(dst, x []float64) ([]float64, error) {
 	if m == nil || m.k == 0 {
 		return nil, fmt.Errorf("%w: model has no centers", ErrModel)
@@ -510,6 +514,9 @@ func (m *Model) Distances(dst, x []float64) ([]float64, error) {
 	z := make([]float64, m.d)
 	if m.scaler != nil {
 		m.scaler.Apply(z, x)
+		if err := checkFinite1(z, " after scaling"); err != nil {
+			return nil, err
+		}
 	} else {
 		copy(z, x)
 	}
@@ -519,7 +526,11 @@ func (m *Model) Distances(dst, x []float64) ([]float64, error) {
 		}
 	}
 	for j := range m.k {
-		dst[j] = m.metric.Distance(z, m.centers[j*m.d:(j+1)*m.d])
+		v := m.metric.Distance(z, m.centers[j*m.d:(j+1)*m.d])
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return nil, fmt.Errorf("%w: the distance to center %d is %v", ErrNotFinite, j, v)
+		}
+		dst[j] = v
 	}
 	return dst, nil
 }

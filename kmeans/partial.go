@@ -148,11 +148,7 @@ func (p *Partial) unitMean(dst []float64, j int) bool {
 		return false
 	}
 	sum := p.Sum[j*p.D : (j+1)*p.D]
-	var n float64
-	for _, v := range sum {
-		n += v * v
-	}
-	n = math.Sqrt(n)
+	n := norm(sum)
 	if !(n > 0) || math.IsInf(n, 0) {
 		return false
 	}

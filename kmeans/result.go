@@ -63,7 +63,7 @@ func (sp *Space) result(best *outcome, k int, stats Stats) *Result {
 	res.Stats.BestRestart = best.restart
 	for i, a := range best.assign {
 		res.Sizes[a]++
-		res.Weights[a] += sp.Weight(i)
+		res.Weights[a] += sp.rawWeight(i)
 	}
 	res.Model = newModel(best.centers, k, sp.D, sp.Metric, sp.Scaler)
 	res.Model.training = sp.training(res.Model.centers, best.assign, k, res)

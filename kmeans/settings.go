@@ -47,12 +47,19 @@ const (
 	DefaultMaxIterations = 300
 )
 
+// Largest values of Settings fields that size memory: Cluster keeps a few
+// values per restart and one goroutine per worker.
+const (
+	MaxRestarts = 1 << 16
+	MaxWorkers  = 1 << 12
+)
+
 // Settings sets the limits and resources of a call to Cluster. The zero
 // value, and a nil *Settings, mean the documented defaults.
 type Settings struct {
 	// Restarts is the number of independent seedings; the result with the
 	// lowest Cost wins, ties going to the lowest restart index. Zero means
-	// DefaultRestarts (10). Negative is an error.
+	// DefaultRestarts (10). Negative or above MaxRestarts is an error.
 	Restarts int
 	// MaxIterations limits the assignment passes of each restart. Zero
 	// means DefaultMaxIterations (300). Negative is an error.
@@ -66,7 +73,8 @@ type Settings struct {
 	// fixed seed: the same inputs and Seed give bit-identical results.
 	Seed uint64
 	// Workers is the number of goroutines; zero means runtime.GOMAXPROCS(0).
-	// Results do not depend on it. Negative is an error.
+	// Results do not depend on it. Negative or above MaxWorkers is an
+	// error.
 	Workers int
 	// Progress, if not nil, is called after every assignment pass of every
 	// restart. Calls are serialised (never concurrent) but restarts run
@@ -93,12 +101,12 @@ func (s *Settings) Resolve() (Settings, error) {
 		r = *s
 	}
 	switch {
-	case r.Restarts < 0:
-		return r, fmt.Errorf("%w: Restarts = %d", ErrSettings, r.Restarts)
+	case r.Restarts < 0 || r.Restarts > MaxRestarts:
+		return r, fmt.Errorf("%w: Restarts = %d, want 0 ≤ Restarts ≤ %d", ErrSettings, r.Restarts, MaxRestarts)
 	case r.MaxIterations < 0:
 		return r, fmt.Errorf("%w: MaxIterations = %d", ErrSettings, r.MaxIterations)
-	case r.Workers < 0:
-		return r, fmt.Errorf("%w: Workers = %d", ErrSettings, r.Workers)
+	case r.Workers < 0 || r.Workers > MaxWorkers:
+		return r, fmt.Errorf("%w: Workers = %d, want 0 ≤ Workers ≤ %d", ErrSettings, r.Workers, MaxWorkers)
 	case math.IsNaN(r.Tolerance) || r.Tolerance < 0 || r.Tolerance >= 1:
 		return r, fmt.Errorf("%w: Tolerance = %v, want 0 ≤ Tolerance < 1", ErrSettings, r.Tolerance)
 	}

@@ -3,6 +3,7 @@ package kmeans
 import (
 	"fmt"
 	"math"
+	"sync/atomic"
 
 	"github.com/centroidlab/centroid/distance"
 	"github.com/centroidlab/centroid/internal/blocks"
@@ -21,7 +22,10 @@ type Space struct {
 	// X holds the rows in the clustering space. Never modify it: it may be
 	// the caller's data.
 	X []float64
-	// W holds the row weights, or nil for all ones.
+	// W holds the row weights as the passes use them, or nil for all ones:
+	// weights that are all equal become nil, and weights beyond
+	// [2⁻⁶⁴, 2⁶⁴] are scaled by a power of two (exactly) so that the
+	// largest is below 1. WeightScale undoes it.
 	W []float64
 	// Metric is the clustering metric; Rule is its center rule.
 	Metric distance.Objective
@@ -34,7 +38,25 @@ type Space struct {
 	invNorm []float64           // 1/‖x_i‖ for the Cosine rule, else nil
 	blocks  blocks.Split        // fixed split of the rows (depends only on N)
 	workers int                 // goroutines per restart
+	rawW    []float64           // the caller's weights (nil: all ones)
+	wscale  float64             // caller's weight = wscale × W (or wscale when W is nil)
+	done    <-chan struct{}     // Parallel stops between blocks once closed (nil: never)
+	cut     *atomic.Bool        // set when Parallel stopped early
 }
+
+// Magnitude limits of the rows for the built-in arithmetics: squared
+// differences of values beyond maxSquaredMagnitude can overflow and those
+// of nonzero values below minSquaredMagnitude underflow to zero, so every
+// distance would tie; absolute differences have wider limits.
+const (
+	maxSquaredMagnitude  = 0x1p480
+	minSquaredMagnitude  = 0x1p-480
+	maxAbsoluteMagnitude = 0x1p1000
+	minAbsoluteMagnitude = 0x1p-1000
+	// weightRange: weights within [1/weightRange, weightRange] are used as
+	// given; others are scaled by a power of two.
+	weightRange = 0x1p64
+)
 
 // NewSpace checks p as Cluster does and returns its clustering space: the
 // metric (nil means Euclidean), the scaler learned on p.Data and p.Weights
@@ -42,12 +64,22 @@ type Space struct {
 // without a scaler is used in place, not copied. p.K is checked against
 // the rows (1 ≤ K ≤ distinct rows of positive weight) unless it is zero.
 //
-// It returns an error wrapping ErrData (nil, empty or non-finite data, or
-// a scaler that fails or maps a row to NaN or ±Inf), ErrK, ErrWeights,
-// ErrMetric (a metric without a center rule, or a row it rejects, such as
-// a zero row under Cosine) or ErrSchema (bad p.Features). p is never
-// modified.
-func NewSpace(p Problem) (*Space, error) {
+// It returns an error wrapping ErrData (nil, empty or non-finite data, a
+// scaler that fails or maps a row to NaN or ±Inf, or rows whose distances
+// the metric cannot measure in float64: under Euclidean, values beyond
+// 2⁴⁸⁰ in magnitude, whose squares overflow, or data whose largest
+// |value| is below 2⁻⁴⁸⁰ but not zero, whose squares underflow; under
+// Manhattan the limits are 2¹⁰⁰⁰ and 2⁻¹⁰⁰⁰; scale such data), ErrK, ErrWeights, ErrMetric (a
+// metric without a center rule, or a row it rejects, such as a zero row
+// under Cosine), ErrSchema (bad p.Features) or ErrPanic (the scaler or the
+// metric panicked). p is never modified.
+func NewSpace(p Problem) (sp *Space, err error) {
+	stage := fmt.Sprintf("scaler %T", p.Scaler)
+	defer func() {
+		if v := recover(); v != nil {
+			sp, err = nil, panicError(stage, v)
+		}
+	}()
 	n, d, err := check.Matrix(p.Data, ErrData)
 	if err != nil {
 		return nil, err
@@ -96,6 +128,10 @@ func NewSpace(p Problem) (*Space, error) {
 		}
 		x = scaled
 	}
+	stage = fmt.Sprintf("metric %T", metric)
+	if err := checkMagnitude(x, distance.ArithmeticOf(metric)); err != nil {
+		return nil, err
+	}
 	if rc, ok := metric.(distance.RowChecker); ok {
 		for i := range n {
 			if err := rc.CheckRow(x[i*d : (i+1)*d]); err != nil {
@@ -108,9 +144,83 @@ func NewSpace(p Problem) (*Space, error) {
 			return nil, fmt.Errorf("%w: K = %d but only %d distinct rows with positive weight", ErrK, p.K, distinct)
 		}
 	}
-	sp := newSpace(x, n, d, p.Weights, obj, 1)
+	w, wscale := normalWeights(p.Weights)
+	sp = newSpace(x, n, d, w, obj, 1)
 	sp.Scaler = learned
+	sp.rawW, sp.wscale = p.Weights, wscale
 	return sp, nil
+}
+
+// checkMagnitude returns an error wrapping ErrData when the largest |x|
+// is outside the range the arithmetic can measure distances in.
+func checkMagnitude(x []float64, a distance.Arithmetic) error {
+	var hi, lo float64
+	switch a {
+	case distance.SquaredDifferences:
+		hi, lo = maxSquaredMagnitude, minSquaredMagnitude
+	case distance.AbsoluteDifferences:
+		hi, lo = maxAbsoluteMagnitude, minAbsoluteMagnitude
+	default:
+		return nil
+	}
+	var m float64
+	for _, v := range x {
+		m = max(m, math.Abs(v))
+	}
+	switch {
+	case m > hi:
+		return fmt.Errorf("%w: values as large as %g, beyond %g: distances would overflow (scale the data, for example with scale.ZScore)", ErrData, m, hi)
+	case m > 0 && m < lo:
+		return fmt.Errorf("%w: no value larger than %g in magnitude, below %g: distances would underflow to zero (scale the data, for example with scale.ZScore)", ErrData, m, lo)
+	}
+	return nil
+}
+
+// normalWeights returns the weights the passes use and the factor that
+// turns them back into the caller's: all-equal positive weights (zeros
+// aside) become 1, and weights beyond [1/weightRange, weightRange] are
+// multiplied by a power of two, which is exact, so that the largest is
+// below 1. So uniform weights give the partition of no weights at all, and
+// huge or tiny weights neither overflow nor underflow in sums. w (checked
+// by check.Weights) is never modified.
+func normalWeights(w []float64) ([]float64, float64) {
+	if w == nil {
+		return nil, 1
+	}
+	var first, top float64
+	uniform, zeros := true, false
+	for _, v := range w {
+		switch {
+		case v == 0:
+			zeros = true
+		case first == 0:
+			first = v
+		case v != first:
+			uniform = false
+		}
+		top = max(top, v)
+	}
+	if uniform {
+		if !zeros {
+			return nil, first
+		}
+		out := make([]float64, len(w))
+		for i, v := range w {
+			if v > 0 {
+				out[i] = 1
+			}
+		}
+		return out, first
+	}
+	if top >= 1/weightRange && top <= weightRange {
+		return w, 1
+	}
+	_, e := math.Frexp(top)
+	out := make([]float64, len(w))
+	for i, v := range w {
+		out[i] = math.Ldexp(v, -e)
+	}
+	return out, math.Ldexp(1, e)
 }
 
 // countDistinct counts distinct rows of positive weight, stopping at limit.
@@ -125,20 +235,55 @@ func countDistinct(x []float64, n, d int, w []float64, limit int) int {
 }
 
 func newSpace(x []float64, n, d int, w []float64, m distance.Objective, workers int) *Space {
-	sp := &Space{N: n, D: d, X: x, W: w, Metric: m, Rule: m.Rule(), workers: max(1, workers)}
+	sp := &Space{N: n, D: d, X: x, W: w, Metric: m, Rule: m.Rule(), workers: max(1, workers), rawW: w, wscale: 1}
 	sp.arith = distance.ArithmeticOf(m)
 	sp.blocks = blocks.Of(n)
 	if sp.Rule == distance.UnitMeanRule {
 		sp.invNorm = make([]float64, n)
 		for i := range n {
-			var s float64
-			for _, v := range sp.Row(i) {
-				s += v * v
-			}
-			sp.invNorm[i] = 1 / math.Sqrt(s)
+			sp.invNorm[i] = 1 / norm(sp.Row(i))
 		}
 	}
 	return sp
+}
+
+// norm returns the Euclidean norm of x without overflow or underflow in
+// the squares: rows whose squared norm leaves [2⁻⁹⁰⁰, 2⁹⁰⁰] are measured
+// after scaling by their largest |x_i|.
+func norm(x []float64) float64 {
+	var s float64
+	for _, v := range x {
+		s += v * v
+	}
+	if s >= 0x1p-900 && s <= 0x1p900 {
+		return math.Sqrt(s)
+	}
+	var m float64
+	for _, v := range x {
+		m = max(m, math.Abs(v))
+	}
+	if m == 0 || math.IsInf(m, 0) || math.IsNaN(m) {
+		return m
+	}
+	s = 0
+	for _, v := range x {
+		t := v / m
+		s += t * t
+	}
+	return m * math.Sqrt(s)
+}
+
+// WeightScale returns the factor that turns W back into the caller's
+// weights (1 when they are used as given): the cost of the caller's
+// problem is WeightScale times the cost computed with W.
+func (sp *Space) WeightScale() float64 { return sp.wscale }
+
+// rawWeight returns the caller's weight of row i.
+func (sp *Space) rawWeight(i int) float64 {
+	if sp.rawW == nil {
+		return 1
+	}
+	return sp.rawW[i]
 }
 
 // Row returns row i (a view into X; do not modify).
@@ -176,7 +321,27 @@ func (sp *Space) WithWorkers(n int) *Space {
 // Parallel calls fn(b) once for every block b, on up to Workers()
 // goroutines, and returns when all calls have returned. fn must write only
 // to state owned by block b so that results do not depend on scheduling.
-func (sp *Space) Parallel(fn func(b int)) { sp.blocks.Each(sp.workers, fn) }
+//
+// In the space a Method's Start receives, Parallel stops handing out
+// blocks once the call's context ends; the driver then discards the pass,
+// so a Method needs no cancellation logic of its own. A panic in fn is
+// raised again on the calling goroutine.
+func (sp *Space) Parallel(fn func(b int)) {
+	if !sp.blocks.EachUntil(sp.workers, sp.done, fn) && sp.cut != nil {
+		sp.cut.Store(true)
+	}
+}
+
+// stoppable returns a copy of sp whose Parallel stops between blocks once
+// done is closed, and records that it did (wasCut).
+func (sp *Space) stoppable(done <-chan struct{}) *Space {
+	c := *sp
+	c.done, c.cut = done, new(atomic.Bool)
+	return &c
+}
+
+// wasCut reports whether a Parallel call of this space stopped early.
+func (sp *Space) wasCut() bool { return sp.cut != nil && sp.cut.Load() }
 
 // Loss returns the metric's loss of row i against center c.
 func (sp *Space) Loss(i int, c []float64) float64 { return sp.Metric.Loss(sp.Row(i), c) }

@@ -1,8 +1,10 @@
 package seeding_test
 
 import (
+	"context"
 	"fmt"
 	"math"
+	"math/rand/v2"
 	"testing"
 
 	"github.com/centroidlab/centroid/distance"
@@ -61,4 +63,25 @@ func ExampleGiven() {
 	// Output:
 	// ⎡110   20⎤
 	// ⎣290   35⎦
+}
+
+// PlusPlus refuses an absurd number of candidates and stops when its
+// context ends, leaving dst unchanged.
+func TestPlusPlusLimitsAndContext(t *testing.T) {
+	data := mat.NewDense(5000, 2, nil)
+	for i := range 5000 {
+		data.Set(i, 0, float64(i%97))
+		data.Set(i, 1, float64(i%89))
+	}
+	dst := mat.NewDense(20, 2, nil)
+	rnd := rand.New(rand.NewPCG(1, 2))
+	err := seeding.PlusPlus{Candidates: seeding.MaxCandidates + 1}.Seed(dst, data, nil, nil, rnd)
+	require.ErrorIs(t, err, seeding.ErrParameter)
+	require.NoError(t, seeding.PlusPlus{Candidates: seeding.MaxCandidates}.Seed(dst, data, nil, nil, rnd))
+	ctx, cancel := context.WithCancel(context.Background())
+	cancel()
+	before := mat.DenseCopyOf(dst)
+	err = seeding.PlusPlus{}.SeedContext(ctx, dst, data, nil, nil, rnd)
+	require.ErrorIs(t, err, context.Canceled)
+	assert.Equal(t, before.RawMatrix().Data, dst.RawMatrix().Data)
 }

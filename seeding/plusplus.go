@@ -1,6 +1,7 @@
 package seeding
 
 import (
+	"context"
 	"fmt"
 	"math"
 	"math/rand/v2"
@@ -66,7 +67,10 @@ func (p PlusPlus) WithWorkers(n int) Seeder {
 	return p
 }
 
-var _ Concurrent = PlusPlus{}
+var (
+	_ Concurrent    = PlusPlus{}
+	_ ContextSeeder = PlusPlus{}
+)
 
 // candidates returns the number of draws per step for k centers.
 func (p PlusPlus) candidates(k int) int {
@@ -82,10 +86,22 @@ func isEuclidean(m distance.Metric) bool {
 	return distance.ArithmeticOf(m) == distance.SquaredDifferences
 }
 
+// MaxCandidates is the largest PlusPlus.Candidates accepted: each step
+// keeps one partial sum per candidate and block.
+const MaxCandidates = 1 << 10
+
 // Seed implements Seeder.
 func (p PlusPlus) Seed(dst *mat.Dense, data *mat.Dense, weights []float64, m distance.Metric, rnd *rand.Rand) error {
-	if p.Candidates < 0 {
-		return fmt.Errorf("%w: PlusPlus.Candidates = %d, want ≥ 0", ErrParameter, p.Candidates)
+	return p.SeedContext(context.Background(), dst, data, weights, m, rnd)
+}
+
+// SeedContext is Seed that stops early when ctx is done, returning an error
+// wrapping ctx.Err() and leaving dst unchanged. It checks ctx between the
+// blocks of every pass over the data, so it returns within about one
+// block of work (see ContextSeeder).
+func (p PlusPlus) SeedContext(ctx context.Context, dst *mat.Dense, data *mat.Dense, weights []float64, m distance.Metric, rnd *rand.Rand) error {
+	if p.Candidates < 0 || p.Candidates > MaxCandidates {
+		return fmt.Errorf("%w: PlusPlus.Candidates = %d, want 0 ≤ Candidates ≤ %d", ErrParameter, p.Candidates, MaxCandidates)
 	}
 	if p.Workers < 0 {
 		return fmt.Errorf("%w: PlusPlus.Workers = %d, want ≥ 0", ErrParameter, p.Workers)
@@ -96,16 +112,21 @@ func (p PlusPlus) Seed(dst *mat.Dense, data *mat.Dense, weights []float64, m dis
 	}
 	L := p.candidates(in.k)
 	st := newPlusState(in, L, max(1, p.Workers))
+	st.stop = ctx.Done()
 	chosen := make([]int, 1, in.k)
 	idx := make([]int, 0, L)
 
-	st.bl.Each(st.workers, st.initFn)
+	if !st.each(st.initFn) {
+		return canceled(ctx)
+	}
 	weightSum := st.total()
 	if math.IsInf(weightSum, 0) {
 		return fmt.Errorf("%w: the sum of the weights overflows", ErrWeights)
 	}
 	chosen[0] = st.draw(rnd, weightSum)
-	st.update(in.row(chosen[0]), true)
+	if !st.update(in.row(chosen[0]), true) {
+		return canceled(ctx)
+	}
 	for len(chosen) < in.k {
 		total := st.total()
 		if total == 0 {
@@ -120,17 +141,32 @@ func (p PlusPlus) Seed(dst *mat.Dense, data *mat.Dense, weights []float64, m dis
 				idx = append(idx, i)
 			}
 		}
-		if len(idx) == 1 {
-			st.update(in.row(idx[0]), false)
-			chosen = append(chosen, idx[0])
-			continue
+		best := idx[0]
+		if len(idx) > 1 {
+			e, ok := st.evaluate(idx)
+			if !ok {
+				return canceled(ctx)
+			}
+			best = idx[e]
 		}
-		best := idx[st.evaluate(idx)]
-		st.update(in.row(best), false)
+		if !st.update(in.row(best), false) {
+			return canceled(ctx)
+		}
 		chosen = append(chosen, best)
 	}
 	in.writeRows(chosen)
 	return nil
+}
+
+// canceled returns the error of a seeding stopped by ctx.
+func canceled(ctx context.Context) error {
+	return fmt.Errorf("seeding: stopped: %w", context.Cause(ctx))
+}
+
+// each runs fn on every block, or stops early and returns false once the
+// caller's context ends.
+func (st *plusState) each(fn func(b int)) bool {
+	return st.bl.EachUntil(st.workers, st.stop, fn)
 }
 
 // repeated reports whether i is in idx.
@@ -157,6 +193,8 @@ type plusState struct {
 	euclid  bool        // the loss is distance.SqEuclidean
 	center  []float64   // the center update adds
 	first   bool        // update adds the first center
+
+	stop <-chan struct{} // closed when the caller's context ends
 
 	// Bound once so that passes do not allocate.
 	initFn, updateFn, evalFn func(b int)
@@ -243,10 +281,11 @@ func (st *plusState) initBlock(b int) {
 }
 
 // update adds center c: near[i] becomes the loss to c, or the smaller of
-// near[i] and that loss unless first, and the block sums follow.
-func (st *plusState) update(c []float64, first bool) {
+// near[i] and that loss unless first, and the block sums follow. It
+// returns false if the caller's context ended first.
+func (st *plusState) update(c []float64, first bool) bool {
 	st.center, st.first = c, first
-	st.bl.Each(st.workers, st.updateFn)
+	return st.each(st.updateFn)
 }
 
 // updateBlock does update's work on block b.
@@ -286,14 +325,16 @@ func (st *plusState) lower(i int, l float64, first bool) float64 {
 // evaluate computes, in one pass over the data, the total weighted loss
 // once each of the distinct rows idx is added as a center, and returns the
 // position in idx of the lowest (the earliest on ties). It leaves near and
-// sums unchanged.
-func (st *plusState) evaluate(idx []int) int {
+// sums unchanged. ok is false if the caller's context ended first.
+func (st *plusState) evaluate(idx []int) (best int, ok bool) {
 	st.cands = st.cands[:0]
 	for _, i := range idx {
 		st.cands = append(st.cands, st.row(i))
 	}
 	L := len(st.cands)
-	st.bl.Each(st.workers, st.evalFn)
+	if !st.each(st.evalFn) {
+		return 0, false
+	}
 	best, bestPot := -1, 0.0
 	for c := range L {
 		var pot float64
@@ -304,7 +345,7 @@ func (st *plusState) evaluate(idx []int) int {
 			best, bestPot = c, pot
 		}
 	}
-	return best
+	return best, true
 }
 
 // evalBlock sets pots[b·potLen+c] to Σ w_i·min(near[i], loss(x_i, c)) over

@@ -1,6 +1,7 @@
 package seeding
 
 import (
+	"context"
 	"math/rand/v2"
 
 	"github.com/centroidlab/centroid/distance"
@@ -35,4 +36,14 @@ type Concurrent interface {
 	// WithWorkers returns the seeder with n goroutines, or the seeder
 	// itself if it already has a number of its own.
 	WithWorkers(n int) Seeder
+}
+
+// ContextSeeder is implemented by seeders that can stop early when a
+// context ends; kmeans.Cluster calls SeedContext instead of Seed when the
+// seeder implements it, so that cancelling a call also stops its seeding.
+// SeedContext returns an error wrapping ctx.Err() (context.Cause) when it
+// stops early, leaving dst unchanged.
+type ContextSeeder interface {
+	Seeder
+	SeedContext(ctx context.Context, dst *mat.Dense, data *mat.Dense, weights []float64, m distance.Metric, rnd *rand.Rand) error
 }

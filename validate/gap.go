@@ -52,11 +52,17 @@ func (r Reference) String() string {
 	return fmt.Sprintf("Reference(%d)", int(r))
 }
 
+// MaxGapReferences is the largest GapOptions.B: every reference set is
+// clustered once per k, so the cost grows with B while the estimate of
+// E*[log W_k] sharpens only as 1/√B.
+const MaxGapReferences = 1 << 12
+
 // GapOptions tunes Gap. A nil *GapOptions and the zero value mean the
 // defaults.
 type GapOptions struct {
-	// B is the number of reference data sets. Zero means 10; 1 and
-	// negative values are invalid (the spread needs at least two).
+	// B is the number of reference data sets. Zero means 10; 1, negative
+	// values (the spread needs at least two) and values above
+	// MaxGapReferences are invalid.
 	B int
 	// Reference is the null distribution. The zero value is PCABox.
 	Reference Reference
@@ -249,8 +255,8 @@ func checkGapArgs(ks []int, n int, cluster ClusterFunc, o *GapOptions) error {
 	switch {
 	case o.B == 0:
 		o.B = 10
-	case o.B < 2:
-		return fmt.Errorf("%w: gap: B = %d reference sets, want at least 2", ErrParameter, o.B)
+	case o.B < 2 || o.B > MaxGapReferences:
+		return fmt.Errorf("%w: gap: B = %d reference sets, want 2 ≤ B ≤ %d", ErrParameter, o.B, MaxGapReferences)
 	}
 	if o.Reference != PCABox && o.Reference != UniformBox {
 		return fmt.Errorf("%w: gap: unknown reference distribution %v", ErrParameter, o.Reference)

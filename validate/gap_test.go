@@ -393,3 +393,12 @@ func TestGapCancelDuringReference(t *testing.T) {
 	assert.ErrorIs(t, err, context.Canceled)
 	assert.Less(t, calls, 20, "clustering stopped soon after the cancellation")
 }
+
+func TestGapReferencesLimit(t *testing.T) {
+	X := mat.NewDense(10, 1, []float64{0, 1, 2, 3, 4, 10, 11, 12, 13, 14})
+	none := func(context.Context, *mat.Dense, int, uint64) (float64, error) { return 1, nil }
+	_, err := Gap(context.Background(), X, []int{1, 2}, none, &GapOptions{B: 1 << 40})
+	require.ErrorIs(t, err, ErrParameter)
+	_, err = Gap(context.Background(), X, []int{1, 2}, none, &GapOptions{B: MaxGapReferences + 1})
+	require.ErrorIs(t, err, ErrParameter)
+}

@@ -34,3 +34,46 @@ func TestEach(t *testing.T) {
 		}
 	}
 }
+
+// A panic in a block reaches the caller of Each as a *Panic, for any number
+// of workers, and no further blocks start.
+func TestEachPanic(t *testing.T) {
+	s := Of(50000)
+	for _, w := range []int{1, 2, 7} {
+		var ran atomic.Int32
+		func() {
+			defer func() {
+				p, ok := recover().(*Panic)
+				require.True(t, ok, "workers=%d", w)
+				require.Equal(t, "boom", p.Value)
+				require.Contains(t, p.Error(), "boom")
+				require.NotEmpty(t, p.Stack)
+			}()
+			s.Each(w, func(b int) {
+				ran.Add(1)
+				if b == 3 {
+					panic("boom")
+				}
+			})
+			t.Fatal("Each returned after a panic")
+		}()
+		require.Less(t, int(ran.Load()), s.Count(), "blocks after the panic were skipped")
+	}
+}
+
+// EachUntil stops handing out blocks once stop is closed and says so.
+func TestEachUntil(t *testing.T) {
+	s := Of(50000)
+	require.True(t, s.EachUntil(2, make(chan struct{}), func(int) {}))
+	for _, w := range []int{1, 2} {
+		stop := make(chan struct{})
+		var ran atomic.Int32
+		complete := s.EachUntil(w, stop, func(b int) {
+			if ran.Add(1) == 2 {
+				close(stop)
+			}
+		})
+		require.False(t, complete)
+		require.LessOrEqual(t, int(ran.Load()), 2+w)
+	}
+}

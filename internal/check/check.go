@@ -3,6 +3,7 @@ package check
 import (
 	"fmt"
 	"math"
+	"reflect"
 
 	"gonum.org/v1/gonum/mat"
 )
@@ -99,4 +100,19 @@ func RowMajor(a mat.Matrix) (x []float64, copied bool) {
 		}
 	}
 	return x, true
+}
+
+// NilPointer reports whether v holds a nil pointer or func (a typed nil:
+// an interface value that is not nil but whose pointer is), which panics
+// on the first method call with a value receiver.
+func NilPointer(v any) bool {
+	if v == nil {
+		return false
+	}
+	r := reflect.ValueOf(v)
+	switch r.Kind() {
+	case reflect.Pointer, reflect.Func:
+		return r.IsNil()
+	}
+	return false
 }
