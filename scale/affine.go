@@ -15,14 +15,14 @@ const (
 // Affine is implemented by scalers that map column j of a row by
 // y = (x − shift[j]) / div[j] with every div[j] > 0 and finite, so that a
 // caller can fuse the scaling into its own loop instead of calling Apply.
-// ZScore, MinMax and Robust implement it; UnitLength does not.
+// ZScore, MinMax and MedianIQR implement it; UnitLength does not.
 type Affine interface {
 	// Affine returns copies of the learned shift and div, each of length
 	// Dim(), or (nil, nil) before Learn.
 	Affine() (shift, div []float64)
 }
 
-// affine is the learned state shared by ZScore, MinMax and Robust. Its
+// affine is the learned state shared by ZScore, MinMax and MedianIQR. Its
 // slices are never written after construction, so copies of a value may
 // share them.
 type affine struct {

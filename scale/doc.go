@@ -11,8 +11,8 @@
 //	                          standard deviation (divided by Σw)
 //	MinMax      "minmax"      minimum and maximum over the rows of      (x − min) / (max − min)    yes
 //	                          positive weight
-//	Robust      "robust"      weighted median and interquartile range   (x − median) / (Q3 − Q1)   yes
-//	                          (empirical weighted quantiles)
+//	MedianIQR   "median-iqr"  weighted median and interquartile range   (x − median) / (Q3 − Q1)   yes
+//	                          (weighted empirical quantiles)
 //	UnitLength  "unitlength"  only the number of columns                x / ‖x‖₂ (whole row)       no
 //
 // The three column-wise scalers are affine: each column j maps by
@@ -23,11 +23,11 @@
 // # Constant columns
 //
 // A column whose spread statistic is zero (a constant column for all
-// scalers; for Robust also any column whose first and third quartiles are
-// the same value) gets the divisor 1 instead, so it is only shifted: a constant
-// column maps to exactly 0 and never to NaN or ±Inf. For ZScore and MinMax a
-// column is constant when its minimum and maximum over the rows of positive
-// weight are equal; its shift is then that value exactly.
+// scalers; for MedianIQR also any column whose first and third quartiles
+// are the same value) gets the divisor 1 instead, so it is only shifted: a
+// constant column maps to exactly 0 and never to NaN or ±Inf. For ZScore
+// and MinMax a column is constant when its minimum and maximum over the
+// rows of positive weight are equal; its shift is then that value exactly.
 //
 // # Invariants
 //
@@ -72,4 +72,9 @@
 // types, encodes as JSON null, and Decode of null returns (nil, nil), so an
 // optional scaler can be stored as is. UnmarshalJSON of null leaves the
 // receiver unchanged, as encoding/json expects.
+//
+// MedianIQR was called Robust in earlier releases, and its documents had
+// the kind "robust". Decode and MedianIQR.UnmarshalJSON still read that
+// kind (to a *MedianIQR); Encode always writes "median-iqr". The deprecated
+// alias Robust names the same type.
 package scale

@@ -3,14 +3,9 @@ package scale
 import (
 	"bytes"
 	"encoding/json"
-	"errors"
 	"fmt"
 	"io"
 )
-
-// ErrUnsupported means Encode was given a Scaler whose type is not one of
-// this package's.
-var ErrUnsupported = errors.New("scale: scaler type cannot be encoded")
 
 // documentVersion is the version of the encoded form written by this
 // package. Decode rejects any other version.
@@ -56,26 +51,27 @@ func (n *numbers) UnmarshalJSON(b []byte) error {
 // null. It returns an error wrapping ErrNotLearned if s has not learned and
 // ErrUnsupported if s is not of a type of this package.
 func Encode(s Scaler) ([]byte, error) {
-	if s == nil || s == (*ZScore)(nil) || s == (*MinMax)(nil) || s == (*Robust)(nil) || s == (*UnitLength)(nil) {
+	if s == nil || s == (*ZScore)(nil) || s == (*MinMax)(nil) || s == (*MedianIQR)(nil) || s == (*UnitLength)(nil) {
 		return []byte("null"), nil
 	}
 	switch s.(type) {
-	case ZScore, *ZScore, MinMax, *MinMax, Robust, *Robust, UnitLength, *UnitLength:
+	case ZScore, *ZScore, MinMax, *MinMax, MedianIQR, *MedianIQR, UnitLength, *UnitLength:
 		return s.(json.Marshaler).MarshalJSON()
 	}
 	return nil, fmt.Errorf("%w: %T", ErrUnsupported, s)
 }
 
 // Decode returns the learned scaler encoded in b by Encode or by a
-// scaler's MarshalJSON: a *ZScore, *MinMax, *Robust or *UnitLength. The
-// document null decodes to (nil, nil). Any malformed, incomplete or
-// inconsistent document returns an error wrapping ErrDecode.
+// scaler's MarshalJSON: a *ZScore, *MinMax, *MedianIQR or *UnitLength.
+// Documents of the kind "robust", written by earlier releases, decode to a
+// *MedianIQR. The document null decodes to (nil, nil). Any malformed,
+// incomplete or inconsistent document returns an error wrapping ErrDecode.
 func Decode(b []byte) (Scaler, error) {
 	return decodeKind(b, "")
 }
 
-// decodeKind decodes b and, if want is not empty, requires that kind. It
-// returns (nil, nil) for null.
+// decodeKind decodes b and, if want is not empty, requires that kind (or
+// an earlier name of it, see currentKind). It returns (nil, nil) for null.
 func decodeKind(b []byte, want string) (Scaler, error) {
 	trimmed := bytes.TrimSpace(b)
 	if string(trimmed) == "null" {
@@ -90,10 +86,11 @@ func decodeKind(b []byte, want string) (Scaler, error) {
 	if _, err := dec.Token(); err != io.EOF {
 		return nil, fmt.Errorf("%w: data after the document", ErrDecode)
 	}
+	kind := currentKind(doc.Kind)
 	switch {
-	case want != "" && doc.Kind != want:
+	case want != "" && kind != want:
 		return nil, fmt.Errorf("%w: kind %q, want %q", ErrDecode, doc.Kind, want)
-	case doc.Kind != kindZScore && doc.Kind != kindMinMax && doc.Kind != kindRobust && doc.Kind != kindUnitLength:
+	case kind != kindZScore && kind != kindMinMax && kind != kindMedianIQR && kind != kindUnitLength:
 		return nil, fmt.Errorf("%w: unknown kind %q", ErrDecode, doc.Kind)
 	}
 	if doc.Version != documentVersion {
@@ -102,7 +99,7 @@ func decodeKind(b []byte, want string) (Scaler, error) {
 	if doc.Dim < 1 {
 		return nil, fmt.Errorf("%w: dim %d", ErrDecode, doc.Dim)
 	}
-	if doc.Kind == kindUnitLength {
+	if kind == kindUnitLength {
 		if len(doc.Offset) != 0 || len(doc.Divisor) != 0 {
 			return nil, fmt.Errorf("%w: %s has no offset or divisor", ErrDecode, kindUnitLength)
 		}
@@ -115,11 +112,20 @@ func decodeKind(b []byte, want string) (Scaler, error) {
 	if err != nil {
 		return nil, fmt.Errorf("%w: %v", ErrDecode, err)
 	}
-	switch doc.Kind {
+	switch kind {
 	case kindZScore:
 		return &ZScore{affine: a}, nil
 	case kindMinMax:
 		return &MinMax{affine: a}, nil
 	}
-	return &Robust{affine: a}, nil
+	return &MedianIQR{affine: a}, nil
+}
+
+// currentKind maps an encoded kind of an earlier release to the kind
+// written now; other kinds are returned as they are.
+func currentKind(kind string) string {
+	if kind == kindMedianIQRv0 {
+		return kindMedianIQR
+	}
+	return kind
 }

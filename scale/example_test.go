@@ -56,8 +56,8 @@ func ExampleMinMax() {
 	// Market Square  1.0000  1.0000  0.0000
 }
 
-func ExampleRobust() {
-	s, err := scale.Robust{}.Learn(stations, nil)
+func ExampleMedianIQR() {
+	s, err := scale.MedianIQR{}.Learn(stations, nil)
 	if err != nil {
 		log.Fatal(err)
 	}
@@ -73,12 +73,12 @@ func ExampleRobust() {
 	// Market Square  0.5000  1.0000  0.0000
 }
 
-func ExampleRobust_weights() {
+func ExampleMedianIQR_weights() {
 	// Weights are days of data per station: Market Square was observed on
 	// four of six days, so it holds the median and the third quartile of
 	// trips (cumulative weights 1, 2, 6 against targets 1.5, 3 and 4.5); the
 	// first quartile falls at Old Mill.
-	s, err := scale.Robust{}.Learn(stations, []float64{1, 1, 4})
+	s, err := scale.MedianIQR{}.Learn(stations, []float64{1, 1, 4})
 	if err != nil {
 		log.Fatal(err)
 	}

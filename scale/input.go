@@ -3,9 +3,10 @@ package scale
 import (
 	"fmt"
 	"iter"
-	"math"
 
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/centroidlab/centroid/internal/check"
 )
 
 // input is validated data and weights for Learn. It reads a
@@ -21,48 +22,28 @@ type input struct {
 	buf    []float64 // row buffer for matrices read through At
 }
 
-// newInput validates data and weights as documented on Scaler.Learn.
+// newInput validates data and weights as documented on Scaler.Learn, with
+// the module's shared checks (internal/check) reporting this package's
+// sentinels.
 func newInput(data mat.Matrix, weights []float64) (*input, error) {
-	if data == nil {
-		return nil, fmt.Errorf("%w: nil matrix", ErrEmpty)
+	r, c, err := check.Matrix(data, ErrEmpty)
+	if err != nil {
+		return nil, err
 	}
-	if d, ok := data.(*mat.Dense); ok && d == nil {
-		return nil, fmt.Errorf("%w: nil *mat.Dense", ErrEmpty)
+	total, err := check.Weights(weights, r, ErrWeights)
+	if err != nil {
+		return nil, err
 	}
-	r, c := data.Dims()
-	if r == 0 || c == 0 {
-		return nil, fmt.Errorf("%w: %d×%d matrix", ErrEmpty, r, c)
-	}
-	in := &input{m: data, rows: r, cols: c, w: weights, total: float64(r)}
+	in := &input{m: data, rows: r, cols: c, w: weights, total: total}
 	if rm, ok := data.(mat.RawMatrixer); ok {
 		raw := rm.RawMatrix()
 		in.raw, in.stride = raw.Data, raw.Stride
 	} else {
 		in.buf = make([]float64, c)
 	}
-	if weights != nil {
-		if len(weights) != r {
-			return nil, fmt.Errorf("%w: %d weights for %d rows", ErrWeights, len(weights), r)
-		}
-		in.total = 0
-		for i, w := range weights {
-			if !(w >= 0) || math.IsInf(w, 1) {
-				return nil, fmt.Errorf("%w: weight %d is %v", ErrWeights, i, w)
-			}
-			in.total += w
-		}
-		if in.total == 0 {
-			return nil, fmt.Errorf("%w: weights sum to zero", ErrWeights)
-		}
-		if math.IsInf(in.total, 1) {
-			return nil, fmt.Errorf("%w: sum of weights overflows", ErrWeights)
-		}
-	}
 	for i := range r {
-		for j, v := range in.row(i) {
-			if math.IsNaN(v) || math.IsInf(v, 0) {
-				return nil, fmt.Errorf("%w: row %d, column %d is %v", ErrNotFinite, i, j, v)
-			}
+		if err := check.FiniteRow(in.row(i), ErrNotFinite); err != nil {
+			return nil, fmt.Errorf("%w in row %d", err, i)
 		}
 	}
 	return in, nil

@@ -26,7 +26,7 @@ var affineConfigs = []struct {
 }{
 	{"zscore", &scale.ZScore{}},
 	{"minmax", &scale.MinMax{}},
-	{"robust", &scale.Robust{}},
+	{"median-iqr", &scale.MedianIQR{}},
 }
 
 // allConfigs adds UnitLength to affineConfigs.
@@ -139,9 +139,9 @@ func TestMinMaxAgainstGonum(t *testing.T) {
 	}
 }
 
-// gonumRobust returns the median and interquartile range of x by gonum's
+// gonumMedianIQR returns the median and interquartile range of x by gonum's
 // stat.Quantile with the Empirical kind, after sorting x (and w) with gonum.
-func gonumRobust(x, w []float64) (median, iqr float64) {
+func gonumMedianIQR(x, w []float64) (median, iqr float64) {
 	x = slices.Clone(x)
 	if w == nil {
 		sort.Float64s(x)
@@ -154,7 +154,7 @@ func gonumRobust(x, w []float64) (median, iqr float64) {
 	return median, iqr
 }
 
-func TestRobustAgainstGonum(t *testing.T) {
+func TestMedianIQRAgainstGonum(t *testing.T) {
 	for _, n := range []int{1, 2, 3, 4, 10, 11, 64} {
 		for _, wc := range weightCases {
 			for _, ties := range []bool{false, true} {
@@ -166,11 +166,11 @@ func TestRobustAgainstGonum(t *testing.T) {
 					if ties {
 						data.Apply(func(_, _ int, v float64) float64 { return math.Round(v) }, data)
 					}
-					_, shift, div := learn(t, scale.Robust{}, data, w)
+					_, shift, div := learn(t, scale.MedianIQR{}, data, w)
 					for j := range 4 {
 						// Reference: gonum stat.Quantile(p, stat.Empirical, sorted, weights),
 						// given all rows including those of weight zero.
-						median, iqr := gonumRobust(mat.Col(nil, j, data), w)
+						median, iqr := gonumMedianIQR(mat.Col(nil, j, data), w)
 						if iqr == 0 {
 							iqr = 1 // documented substitution
 						}
@@ -183,7 +183,7 @@ func TestRobustAgainstGonum(t *testing.T) {
 	}
 }
 
-func TestRobustSmallByHand(t *testing.T) {
+func TestMedianIQRSmallByHand(t *testing.T) {
 	// Column 0 sorted is 1 2 3 4: by the definition Q(p) = x₍ₖ₎ with k the
 	// smallest i where i ≥ 4p, Q(¼) = 1, Q(½) = 2 (lower middle), Q(¾) = 3.
 	// Column 1 is ten times column 0.
@@ -193,21 +193,21 @@ func TestRobustSmallByHand(t *testing.T) {
 		3, 30,
 		2, 20,
 	})
-	_, shift, div := learn(t, scale.Robust{}, data, nil)
+	_, shift, div := learn(t, scale.MedianIQR{}, data, nil)
 	assert.Equal(t, []float64{2, 20}, shift)
 	assert.Equal(t, []float64{2, 20}, div)
 	// Reference: gonum stat.Quantile with stat.Empirical agrees.
-	m, iqr := gonumRobust([]float64{4, 1, 3, 2}, nil)
+	m, iqr := gonumMedianIQR([]float64{4, 1, 3, 2}, nil)
 	assert.Equal(t, []float64{2, 2}, []float64{m, iqr})
 
 	// Weights 3 1 1 1: column 1 sorted is 10 20 30 40 with cumulative weights
 	// 1 2 3 6; targets 1.5, 3, 4.5 give Q(¼) = 20, Q(½) = 30, Q(¾) = 40.
 	// Column 0 likewise gives 2, 3, 4.
 	w := []float64{3, 1, 1, 1}
-	_, shift, div = learn(t, scale.Robust{}, data, w)
+	_, shift, div = learn(t, scale.MedianIQR{}, data, w)
 	assert.Equal(t, []float64{3, 30}, shift)
 	assert.Equal(t, []float64{2, 20}, div)
-	m, iqr = gonumRobust([]float64{40, 10, 30, 20}, w) // reference: gonum
+	m, iqr = gonumMedianIQR([]float64{40, 10, 30, 20}, w) // reference: gonum
 	assert.Equal(t, []float64{30, 20}, []float64{m, iqr})
 }
 
@@ -297,11 +297,11 @@ func TestScaledStatistics(t *testing.T) {
 			assert.Equal(t, 1.0, floats.Max(kept(col, w)), "column %d", j)
 		}
 	})
-	t.Run("robust", func(t *testing.T) {
-		s, _, _ := learn(t, scale.Robust{}, data, w)
+	t.Run("median-iqr", func(t *testing.T) {
+		s, _, _ := learn(t, scale.MedianIQR{}, data, w)
 		for j, col := range scaledColumns(s, data) {
 			// Reference: gonum stat.Quantile (Empirical) of the scaled column.
-			median, iqr := gonumRobust(col, w)
+			median, iqr := gonumMedianIQR(col, w)
 			assert.Equal(t, 0.0, median, "column %d", j)
 			assert.InDelta(t, 1, iqr, 1e-12, "column %d", j)
 		}
@@ -347,9 +347,9 @@ func TestConstantColumns(t *testing.T) {
 	want := map[string]struct{ shift, div []float64 }{
 		// Hand-computed for column 2 over the kept values 5 5 5 9: mean 6 and
 		// population std √3; min 5, range 4; median 5, IQR 0 → divisor 1.
-		"zscore": {[]float64{7.25, 3, 6}, []float64{1, 1, math.Sqrt(3)}},
-		"minmax": {[]float64{7.25, 3, 5}, []float64{1, 1, 4}},
-		"robust": {[]float64{7.25, 3, 5}, []float64{1, 1, 1}},
+		"zscore":     {[]float64{7.25, 3, 6}, []float64{1, 1, math.Sqrt(3)}},
+		"minmax":     {[]float64{7.25, 3, 5}, []float64{1, 1, 4}},
+		"median-iqr": {[]float64{7.25, 3, 5}, []float64{1, 1, 1}},
 	}
 	for _, c := range affineConfigs {
 		t.Run(c.name, func(t *testing.T) {
@@ -449,7 +449,7 @@ func TestValueAndPointerConfigs(t *testing.T) {
 	pairs := []struct{ value, pointer scale.Scaler }{
 		{scale.ZScore{}, &scale.ZScore{}},
 		{scale.MinMax{}, &scale.MinMax{}},
-		{scale.Robust{}, &scale.Robust{}},
+		{scale.MedianIQR{}, &scale.MedianIQR{}},
 		{scale.UnitLength{}, &scale.UnitLength{}},
 	}
 	for _, p := range pairs {
@@ -598,7 +598,7 @@ func TestJSONRoundTrip(t *testing.T) {
 	fresh := map[string]func() json.Unmarshaler{
 		"zscore":     func() json.Unmarshaler { return new(scale.ZScore) },
 		"minmax":     func() json.Unmarshaler { return new(scale.MinMax) },
-		"robust":     func() json.Unmarshaler { return new(scale.Robust) },
+		"median-iqr": func() json.Unmarshaler { return new(scale.MedianIQR) },
 		"unitlength": func() json.Unmarshaler { return new(scale.UnitLength) },
 	}
 	for _, c := range allConfigs {
@@ -640,7 +640,7 @@ func TestJSONRoundTrip(t *testing.T) {
 type foreign struct{ scale.UnitLength }
 
 func TestEncodeSpecialCases(t *testing.T) {
-	for _, s := range []scale.Scaler{nil, (*scale.ZScore)(nil), (*scale.MinMax)(nil), (*scale.Robust)(nil), (*scale.UnitLength)(nil)} {
+	for _, s := range []scale.Scaler{nil, (*scale.ZScore)(nil), (*scale.MinMax)(nil), (*scale.MedianIQR)(nil), (*scale.UnitLength)(nil)} {
 		b, err := scale.Encode(s)
 		require.NoError(t, err)
 		assert.Equal(t, "null", string(b), "%T", s)
@@ -798,5 +798,65 @@ func BenchmarkLearn(b *testing.B) {
 				}
 			}
 		})
+	}
+}
+
+func TestMedianIQRKinds(t *testing.T) {
+	data := randomData(20, 12, 2)
+	s, shift, div := learn(t, &scale.MedianIQR{}, data, nil)
+	assert.Equal(t, "median-iqr", s.Kind())
+	b, err := scale.Encode(s)
+	require.NoError(t, err)
+	var doc map[string]any
+	require.NoError(t, json.Unmarshal(b, &doc))
+	assert.Equal(t, "median-iqr", doc["kind"], "the new kind is written")
+
+	// A document of the kind earlier releases wrote still decodes, to the
+	// same scaler, and is written back with the new kind.
+	legacy, err := json.Marshal(map[string]any{"kind": "robust", "version": 1, "dim": 2, "offset": shift, "divisor": div})
+	require.NoError(t, err)
+	for _, in := range [][]byte{b, legacy} {
+		dec, err := scale.Decode(in)
+		require.NoError(t, err, "%s", in)
+		assert.Equal(t, s, dec)
+		again, err := scale.Encode(dec)
+		require.NoError(t, err)
+		assert.Equal(t, b, again)
+
+		var m scale.MedianIQR
+		require.NoError(t, json.Unmarshal(in, &m), "%s", in)
+		assert.Equal(t, s, &m)
+	}
+	var z scale.ZScore
+	assert.ErrorIs(t, json.Unmarshal(legacy, &z), scale.ErrDecode, "another type does not take the old kind")
+	_, err = scale.Decode([]byte(`{"kind":"Robust","version":1,"dim":1,"offset":[0],"divisor":[1]}`))
+	assert.ErrorIs(t, err, scale.ErrDecode, "kinds are case-sensitive")
+}
+
+func TestRobustAlias(t *testing.T) {
+	// The deprecated name, as the conformance contract writes it, is the
+	// same type and learns the same scaler.
+	data, w := randomData(21, 20, 3), randomWeights(21, 20)
+	var cfg scale.Scaler = &scale.Robust{}
+	old, err := cfg.Learn(data, w)
+	require.NoError(t, err)
+	cur, err := scale.MedianIQR{}.Learn(data, w)
+	require.NoError(t, err)
+	assert.Equal(t, cur, old)
+	assert.IsType(t, &scale.MedianIQR{}, old)
+	assert.Equal(t, "median-iqr", cfg.Kind())
+	b, err := scale.Encode((*scale.Robust)(nil))
+	require.NoError(t, err)
+	assert.Equal(t, "null", string(b))
+}
+
+func TestNotFiniteNamesRowAndColumn(t *testing.T) {
+	data := mat.NewDense(3, 2, []float64{1, 2, 3, math.Inf(-1), 5, 6})
+	big := mat.NewDense(3, 4, nil)
+	big.Slice(0, 3, 1, 3).(*mat.Dense).Copy(data)
+	for name, m := range map[string]mat.Matrix{"dense": data, "strided": big.Slice(0, 3, 1, 3), "through At": matrixOnly{data}} {
+		_, err := scale.ZScore{}.Learn(m, nil)
+		require.ErrorIs(t, err, scale.ErrNotFinite, name)
+		assert.EqualError(t, err, "scale: value is NaN or infinite: column 1 is -Inf in row 1", name)
 	}
 }

@@ -90,8 +90,13 @@ func run(ctx context.Context, w io.Writer, o options) error {
 		fmt.Fprintf(w, "agreement with the %d latent station kinds (known only because the data is invented): adjusted Rand index %.3f\n", bikeshare.NumKinds, ari)
 	}
 
-	// Profiles in original units.
-	pf, err := profile.Describe(X, res, &profile.ProfileOptions{Features: names, Units: units})
+	// Profiles in original units, named by the model's schema (the
+	// feature names when the problem carried none).
+	schema := res.Model.Features()
+	if schema == nil {
+		schema = names
+	}
+	pf, err := profile.Explain(X, res.Assignments, &profile.Options{Names: schema, Units: units, K: res.Model.K(), Noun: "stations"})
 	if err != nil {
 		return fmt.Errorf("profiles: %w", err)
 	}
@@ -100,8 +105,8 @@ func run(ctx context.Context, w io.Writer, o options) error {
 		return err
 	}
 	fmt.Fprintln(w, "\nwhat sets each cluster apart (cluster mean − overall mean, in overall standard deviations):")
-	for c, line := range pf.Apart() {
-		fmt.Fprintf(w, "  cluster %d (%d stations): %s\n", c, pf.Clusters[c].Size, line)
+	for c, cl := range pf.Clusters {
+		fmt.Fprintf(w, "  cluster %d (%d stations): %s\n", c, cl.Rows, pf.Gist(c))
 	}
 
 	// Plots and the model go to the output folder.
@@ -201,14 +206,14 @@ func featureList(names, units []string) string {
 }
 
 // firstContrast describes the cluster by its most distinctive feature.
-func firstContrast(pf *profile.Profile, c int) string {
-	a := pf.Clusters[c].Apart
-	if len(a) == 0 {
+func firstContrast(pf *profile.Report, c int) string {
+	s := pf.Clusters[c].Standouts
+	if len(s) == 0 {
 		return "an average station"
 	}
 	dir := "high"
-	if a[0].Z < 0 {
+	if pf.Clusters[c].Shift[s[0]] < 0 {
 		dir = "low"
 	}
-	return fmt.Sprintf("%s %s", dir, a[0].Name)
+	return fmt.Sprintf("%s %s", dir, pf.Names[s[0]])
 }
