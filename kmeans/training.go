@@ -1,10 +1,11 @@
 package kmeans
 
 import (
-	"cmp"
 	"fmt"
 	"math"
 	"slices"
+
+	"github.com/centroidlab/centroid/internal/quantile"
 )
 
 // Training summarises the rows a Model was made from, measured in the
@@ -73,8 +74,8 @@ func (m *Model) Training() *Training {
 	return &t
 }
 
-// quantileLevels are the levels of Quantiles as fractions num/100.
-var quantileLevels = [...]float64{50, 90, 99}
+// quantileLevels are the levels of Quantiles: P50, P90 and P99.
+var quantileLevels = []float64{0.50, 0.90, 0.99}
 
 // training summarises the final clustering for the model document: sizes,
 // weights and costs from res, and the quantiles of each cluster's member
@@ -102,40 +103,25 @@ func (sp *Space) training(centers []float64, assign []int, k int, res *Result) *
 	for j := range k {
 		start[j+1] += start[j]
 	}
-	type member struct{ dist, w float64 }
-	members := make([]member, start[k])
+	members := make([]quantile.Pair, start[k])
 	next := slices.Clone(start[:k])
 	for i, a := range assign {
 		if w := sp.Weight(i); w > 0 {
-			members[next[a]] = member{dist[i], w}
+			members[next[a]] = quantile.Pair{Value: dist[i], Weight: w}
 			next[a]++
 		}
 	}
 	t := &Training{Rows: sp.N, Clusters: make([]ClusterSummary, k)}
+	var q [3]float64
 	for j := range k {
 		t.Clusters[j] = ClusterSummary{Size: res.Sizes[j], Weight: res.Weights[j], Cost: res.ClusterCost[j]}
 		ms := members[start[j]:start[j+1]]
 		if len(ms) == 0 {
 			continue
 		}
-		slices.SortFunc(ms, func(a, b member) int { return cmp.Compare(a.dist, b.dist) })
-		var total float64
-		for _, m := range ms {
-			total += m.w
-		}
-		var q [len(quantileLevels)]float64
-		level, cum := 0, 0.0
-		for _, m := range ms {
-			cum += m.w
-			for level < len(q) && cum >= total*quantileLevels[level]/100 {
-				q[level] = m.dist
-				level++
-			}
-		}
-		for ; level < len(q); level++ { // rounding left cum just below a level
-			q[level] = ms[len(ms)-1].dist
-		}
-		t.Clusters[j].Distances = Quantiles{P50: q[0], P90: q[1], P99: q[2], Max: ms[len(ms)-1].dist}
+		quantile.Sort(ms)
+		quantile.Levels(q[:], quantileLevels, ms)
+		t.Clusters[j].Distances = Quantiles{P50: q[0], P90: q[1], P99: q[2], Max: ms[len(ms)-1].Value}
 	}
 	return t
 }

@@ -1,10 +1,10 @@
 package kmeans
 
 import (
-	"cmp"
 	"slices"
 
 	"github.com/centroidlab/centroid/distance"
+	"github.com/centroidlab/centroid/internal/quantile"
 )
 
 // update moves the centers by the space's center rule from the merged
@@ -33,7 +33,9 @@ func (r *run) update(next []float64, st *Step, merged *Partial) {
 
 // medians writes the coordinate-wise weighted median of each cluster's
 // members into next and returns the clusters without weight. The weighted
-// median is the smallest member value v with Σ{w : value ≤ v} ≥ W/2.
+// median is quantile.Of(0.5, …), the module's one quantile definition: the
+// smallest member value v with Σ{w : value ≤ v} ≥ W/2, W the cluster's
+// weight summed in sorted order.
 func (r *run) medians(next []float64, assign []int, merged *Partial) []int {
 	sp, k, d := r.sp, r.k, r.sp.D
 	// Bucket row indices by cluster (counting sort keeps row order).
@@ -54,33 +56,22 @@ func (r *run) medians(next []float64, assign []int, merged *Partial) []int {
 		fill[a]++
 	}
 	var empty []int
-	type vw struct{ v, w float64 }
-	var buf []vw
+	var buf []quantile.Pair
 	for j := range k {
 		members := order[start[j]:start[j+1]]
 		if !(merged.Weight[j] > 0) {
 			empty = append(empty, j)
 			continue
 		}
-		half := merged.Weight[j] / 2
 		for c := range d {
 			buf = buf[:0]
 			for _, i := range members {
 				if w := sp.Weight(i); w > 0 {
-					buf = append(buf, vw{sp.X[i*d+c], w})
+					buf = append(buf, quantile.Pair{Value: sp.X[i*d+c], Weight: w})
 				}
 			}
-			slices.SortFunc(buf, func(a, b vw) int { return cmp.Compare(a.v, b.v) })
-			var acc float64
-			m := buf[len(buf)-1].v
-			for _, e := range buf {
-				acc += e.w
-				if acc >= half {
-					m = e.v
-					break
-				}
-			}
-			next[j*d+c] = m
+			quantile.Sort(buf)
+			next[j*d+c] = quantile.Of(0.5, buf)
 		}
 	}
 	return empty
