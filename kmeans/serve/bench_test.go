@@ -50,8 +50,6 @@ func BenchmarkServeAssignMap(b *testing.B) { benchmarkServeNamed(b, true) }
 
 func BenchmarkServeDriftObserve(b *testing.B) {
 	m, x := serveModel(b, 6, 5, nil)
-	m.training = &kmeans.Training{Rows: 1, Clusters: make([]kmeans.ClusterSummary, 5)}
-	m.training.Clusters[0] = kmeans.ClusterSummary{Size: 1, Weight: 1}
 	dr, err := NewDrift(m)
 	if err != nil {
 		b.Fatal(err)

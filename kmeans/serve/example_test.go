@@ -1,18 +1,35 @@
 package serve_test
 
 import (
+	"context"
 	"errors"
 	"fmt"
+	"time"
 
 	"github.com/centroidlab/centroid/internal/data/bikeshare"
 	"github.com/centroidlab/centroid/kmeans"
 	"github.com/centroidlab/centroid/kmeans/serve"
+	"github.com/centroidlab/centroid/scale"
 )
+
+// demo clusters the Riverton demo stations and names the features.
+func demo() *kmeans.Model {
+	_, x := bikeshare.Generate(300, 1)
+	res, err := kmeans.Cluster(context.Background(), kmeans.Problem{Data: x, K: 4, Scaler: &scale.ZScore{}}, &kmeans.Settings{Seed: 1}, nil)
+	if err != nil {
+		panic(err)
+	}
+	m, err := res.Model.WithFeatures(bikeshare.Features())
+	if err != nil {
+		panic(err)
+	}
+	return m.WithCreated(time.Date(2025, 3, 1, 9, 30, 0, 0, time.UTC))
+}
 
 // A proposed station given by feature name gets a cluster (here the busy
 // weekday cluster of commuter hubs), the distance to its center and the
 // margin to the runner-up; a misspelt field is named in the error.
-func ExampleModel_AssignRecord() {
+func ExampleAssignRecord() {
 	m := demo()
 	station := serve.Record{
 		{Name: "trips_per_day", Value: 310}, {Name: "weekend_share", Value: 0.12},
@@ -36,7 +53,7 @@ func ExampleModel_AssignRecord() {
 	// Output:
 	// cluster 1, distance 0.30, margin 1.97
 	// same as by vector: true
-	// kmeans: field "elevation": unknown
+	// serve: field "elevation": unknown
 	// true true
 }
 

@@ -8,12 +8,13 @@ import (
 	"sync/atomic"
 	"testing"
 
-	"github.com/centroidlab/centroid/internal/data/bikeshare"
-	"github.com/centroidlab/centroid/kmeans"
-	"github.com/centroidlab/centroid/scale"
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/centroidlab/centroid/internal/data/bikeshare"
+	"github.com/centroidlab/centroid/kmeans"
+	"github.com/centroidlab/centroid/scale"
 )
 
 // TestServeAllocs checks that the vector and named-field paths allocate
@@ -173,4 +174,5 @@ func TestHolderRefuses(t *testing.T) {
 	prev, err = h.Swap(named.WithCreated(s.Since))
 	require.NoError(t, err)
 	assert.Same(t, s, prev)
+
 }
