@@ -2,6 +2,7 @@ package serve
 
 import (
 	"context"
+	"encoding/json"
 	"fmt"
 	"runtime"
 	"sync"
@@ -175,4 +176,17 @@ func TestHolderRefuses(t *testing.T) {
 	require.NoError(t, err)
 	assert.Same(t, s, prev)
 
+	// The document is encoded once per Served: the same bytes each time.
+	want, err := json.Marshal(named)
+	require.NoError(t, err)
+	doc, err := s.Document()
+	require.NoError(t, err)
+	again, err := s.Document()
+	require.NoError(t, err)
+	assert.Equal(t, string(want), string(doc))
+	assert.Same(t, &doc[0], &again[0])
+	plain := &Served{Model: named} // not made by Swap: encoded on each call
+	doc, err = plain.Document()
+	require.NoError(t, err)
+	assert.Equal(t, string(want), string(doc))
 }
