@@ -3,34 +3,36 @@
 // by name-keyed usage features as they arrive, replaces the model without a
 // restart and watches its traffic drift away from the training data.
 //
-// It starts with a model fitted on the demo stations (internal/bikeshare,
-// z-scored, k = 5), or with a model document given by -model, and listens
-// on -addr (default 127.0.0.1:8080):
+// The HTTP API is package serve's Server (see its documentation for the
+// endpoints, errors and limits); this command only wires flags to it. It
+// starts with a model fitted on the demo stations (internal/data/bikeshare,
+// z-scored, k = 5), or with a model document given by -model (which must
+// name its features), and listens on -addr, by default 127.0.0.1:8080, a
+// loopback address that only this machine reaches:
 //
 //	go run ./examples/service
-//	go run ./examples/service -addr :8080 -model model.json -admin-token s3cret
+//	go run ./examples/service -model model.json -addr 127.0.0.1:9090
 //
-// # Endpoints
+// # Model swaps and the admin token
 //
-//	POST /v1/assign   {"rows":[{"trips_per_day":212,"weekend_share":0.19,...},...]}
-//	                  → {"model":"sha256:…","assignments":[{"cluster":2,"distance":0.83,"margin":0.41},...]}
-//	GET  /v1/model    the model document (version 2 JSON), ETag = its checksum
-//	PUT  /v1/model    install a new model document (same feature names), atomically
-//	GET  /v1/drift    population stability index, share beyond the training p99, rejections
-//	GET  /healthz     liveness and the served model's checksum
-//	GET  /debug/vars  expvar counters (requests, rows, rejections, swaps)
+// PUT /v1/model replaces the model only if the service has an admin token,
+// read from the environment variable SERVICE_ADMIN_TOKEN or from the file
+// named by -admin-token-file (one line; readable by the service only). The
+// token is never a flag, since any user of the machine can read a
+// process's command line, and never appears in a response or a log. With
+// no token (the default) every PUT is answered 403. The startup log line
+// "serving" says which mode is in force, and a warning follows when -addr
+// is not a loopback address:
 //
-// Each row of /v1/assign is an object with exactly the model's feature
-// names; the whole batch is refused (422, naming the row and field) if a
-// row has a missing, unknown or repeated field or a non-finite value.
-// Errors are JSON objects {"error":"…"} with a 4xx status: 400 malformed
-// JSON, 401 missing admin token, 404 unknown path, 405 wrong method, 409 a
-// model with different features, 413 body or batch too large, 415 not
-// application/json, 422 rows that do not match the schema or an invalid
-// model document. A refused PUT leaves the old model serving.
+//	SERVICE_ADMIN_TOKEN=$(cat /run/secrets/model-token) go run ./examples/service
+//	go run ./examples/service -admin-token-file /run/secrets/model-token
 //
-// The server limits request bodies (-max-body, -max-model-bytes) and rows
-// per request (-max-rows), sets read and write timeouts, logs every request
-// with log/slog as JSON on stderr and shuts down gracefully on SIGINT or
+// # Limits
+//
+// -max-body and -max-rows bound POST /v1/assign (1 MiB; rows: as many as
+// fit, see serve.Limits), -max-model-bytes and -max-model-values the
+// -model file and PUT /v1/model (16 MiB, 2²⁰ values); the header limit and
+// the timeouts are the serve defaults. The service logs every request with
+// log/slog as JSON on stderr and shuts down gracefully on SIGINT or
 // SIGTERM, letting requests in flight finish.
 package main

@@ -1,7 +1,11 @@
 package serve
 
 import (
+	"bytes"
 	"context"
+	"encoding/json"
+	"net/http"
+	"net/http/httptest"
 	"testing"
 
 	"github.com/centroidlab/centroid/internal/data/bikeshare"
@@ -50,8 +54,6 @@ func BenchmarkServeAssignMap(b *testing.B) { benchmarkServeNamed(b, true) }
 
 func BenchmarkServeDriftObserve(b *testing.B) {
 	m, x := serveModel(b, 6, 5, nil)
-	m.training = &kmeans.Training{Rows: 1, Clusters: make([]kmeans.ClusterSummary, 5)}
-	m.training.Clusters[0] = kmeans.ClusterSummary{Size: 1, Weight: 1}
 	dr, err := NewDrift(m)
 	if err != nil {
 		b.Fatal(err)
@@ -85,4 +87,31 @@ func BenchmarkServeHolderLoad(b *testing.B) {
 			}
 		}
 	})
+}
+
+// BenchmarkServeAssignRequest answers POST /v1/assign in process (no
+// network) for a batch of 100 demo stations and reports rows per second.
+func BenchmarkServeAssignRequest(b *testing.B) {
+	m, _, _ := demoModel(b, false)
+	srv, err := NewServer(m, nil)
+	if err != nil {
+		b.Fatal(err)
+	}
+	h := srv.Handler()
+	body, err := json.Marshal(assignRequest{Rows: stationRows(bikeshare.NewStations(100, 4))})
+	if err != nil {
+		b.Fatal(err)
+	}
+	b.SetBytes(int64(len(body)))
+	b.ReportAllocs()
+	for b.Loop() {
+		r := httptest.NewRequest("POST", "/v1/assign", bytes.NewReader(body))
+		r.Header.Set("Content-Type", "application/json")
+		w := &discard{}
+		h.ServeHTTP(w, r)
+		if w.status != http.StatusOK {
+			b.Fatal(w.status)
+		}
+	}
+	b.ReportMetric(100*float64(b.N)/b.Elapsed().Seconds(), "rows/s")
 }

@@ -17,7 +17,7 @@ import (
 // training data, so a service can tell when today's traffic no longer
 // looks like the data the model was made from. It counts, per cluster, the
 // rows assigned and the rows farther from their center than the training
-// 99th percentile of that cluster (Quantiles.P99), plus rows that could not
+// 99th percentile of that cluster ([kmeans.Quantiles] P99), plus rows that could not
 // be labelled.
 //
 // Recording is cheap enough for the hot path: a few atomic additions on
@@ -46,7 +46,7 @@ const (
 )
 
 // NewDrift returns a monitor for the answers of m. It returns an error
-// wrapping ErrModel if m has no training summary (a model decoded from a
+// wrapping [kmeans.ErrModel] if m has no training summary (a model decoded from a
 // version 1 document).
 func NewDrift(m *kmeans.Model) (*Drift, error) {
 	if m == nil || m.K() == 0 {
@@ -130,7 +130,7 @@ func (d *Drift) ObserveBatch(as []kmeans.Assignment) {
 }
 
 // ObserveError records a row the model refused: as non-finite if err wraps
-// ErrNotFinite, else as rejected.
+// [kmeans.ErrNotFinite], else as rejected.
 func (d *Drift) ObserveError(err error) {
 	if errors.Is(err, kmeans.ErrNotFinite) {
 		d.shard()[offNonFinite].Add(1)
@@ -247,7 +247,7 @@ func (d *Drift) Snapshot() DriftSnapshot {
 // slices differ in length.
 func PSI(observed, expected []float64) float64 {
 	if len(observed) != len(expected) {
-		panic("kmeans: PSI of slices of different lengths")
+		panic("serve: PSI of slices of different lengths")
 	}
 	var s float64
 	for j, o := range observed {

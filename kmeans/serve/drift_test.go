@@ -7,11 +7,11 @@ import (
 	"sync"
 	"testing"
 
-	"github.com/centroidlab/centroid/distance"
-	"github.com/centroidlab/centroid/internal/data/bikeshare"
-	"github.com/centroidlab/centroid/kmeans"
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
+
+	"github.com/centroidlab/centroid/internal/data/bikeshare"
+	"github.com/centroidlab/centroid/kmeans"
 )
 
 // psiByHand is the population stability index written out from its
@@ -119,9 +119,9 @@ func TestDriftShift(t *testing.T) {
 	assert.Greater(t, dr.Snapshot().BeyondP99, snap.BeyondP99)
 
 	dr.ObserveError(fmt.Errorf("row 3: %w", kmeans.ErrNotFinite))
-	dr.ObserveError(&FieldError{Field: "x", kmeans.Problem: FieldUnknown})
-	dr.Observe(kmeans.Assignment{kmeans.Cluster: 99})
-	dr.ObserveBatch([]kmeans.Assignment{{kmeans.Cluster: -1}})
+	dr.ObserveError(&FieldError{Field: "x", Problem: FieldUnknown})
+	dr.Observe(kmeans.Assignment{Cluster: 99})
+	dr.ObserveBatch([]kmeans.Assignment{{Cluster: -1}})
 	dr.ObserveBatch(nil)
 	snap = dr.Snapshot()
 	assert.Equal(t, int64(1), snap.NonFinite)
@@ -138,8 +138,9 @@ func TestDriftModerate(t *testing.T) {
 	// Two clusters with training shares 0.5/0.5 (sizes 2 and 2): 65/35
 	// traffic gives 0.15·ln(1.3) + 0.15·ln(1/0.7) ≈ 0.093 (stable), 70/30
 	// gives 0.2·ln(1.4) + 0.2·ln(5/3) ≈ 0.169 (moderate).
-	m := newModel([]float64{0, 10}, 2, 1, distance.Euclidean{}, nil)
-	m.training = &kmeans.Training{Rows: 4, Clusters: []kmeans.ClusterSummary{{Size: 2, Weight: 2}, {Size: 2, Weight: 2}}}
+	m, res := clusterRows(t, [][]float64{{0}, {0}, {10}, {10}}, 2)
+	require.Equal(t, []int{2, 2}, res.Sizes)
+	require.Equal(t, []float64{0.5, 0.5}, m.Training().Shares())
 	for _, c := range []struct {
 		a, b    int
 		reading string
@@ -151,17 +152,19 @@ func TestDriftModerate(t *testing.T) {
 			if i >= c.a {
 				cl = 1
 			}
-			dr.Observe(kmeans.Assignment{kmeans.Cluster: cl})
+			dr.Observe(kmeans.Assignment{Cluster: cl})
 		}
-		assert.Equal(t, c.reading, dr.Snapshot().Reading, "%d/%d", c.a, c.b)
+		s := dr.Snapshot()
+		assert.InDelta(t, psiByHand([]float64{float64(c.a) / 100, float64(c.b) / 100}, []float64{0.5, 0.5}), s.PSI, 1e-12)
+		assert.Equal(t, c.reading, s.Reading, "%d/%d", c.a, c.b)
 	}
 	dr, err := NewDrift(m)
 	require.NoError(t, err)
 	for range DriftMinRows - 1 {
-		dr.Observe(kmeans.Assignment{kmeans.Cluster: 0})
+		dr.Observe(kmeans.Assignment{Cluster: 0})
 	}
 	assert.Equal(t, "too few rows", dr.Snapshot().Reading)
-	dr.Observe(kmeans.Assignment{kmeans.Cluster: 0})
+	dr.Observe(kmeans.Assignment{Cluster: 0})
 	assert.Equal(t, "major shift", dr.Snapshot().Reading)
 }
 
@@ -174,7 +177,7 @@ func TestDriftConcurrent(t *testing.T) {
 	for w := range workers {
 		wg.Go(func() {
 			for i := range per {
-				dr.Observe(kmeans.Assignment{kmeans.Cluster: (w + i) % m.K()})
+				dr.Observe(kmeans.Assignment{Cluster: (w + i) % m.K()})
 			}
 		})
 	}
@@ -197,23 +200,30 @@ func TestDriftConcurrent(t *testing.T) {
 func TestNewDriftErrors(t *testing.T) {
 	_, err := NewDrift(nil)
 	require.ErrorIs(t, err, kmeans.ErrModel)
-	_, err = NewDrift(newModel([]float64{0, 1}, 2, 1, distance.Euclidean{}, nil))
+	_, err = NewDrift(&kmeans.Model{})
 	require.ErrorIs(t, err, kmeans.ErrModel)
-	// k > 32: ObserveBatch adds up on the heap.
+	// A version 1 document has no training summary to compare with.
+	_, err = NewDrift(v1Model(t, [][]float64{{0}, {1}}))
+	require.ErrorIs(t, err, kmeans.ErrModel)
+
+	// k > 32: ObserveBatch adds up on the heap. Forty distinct rows in
+	// forty clusters: every training distance, hence every P99, is 0.
 	k := 40
-	c := make([]float64, k)
-	for i := range c {
-		c[i] = float64(i)
+	rows := make([][]float64, k)
+	for i := range rows {
+		rows[i] = []float64{float64(i)}
 	}
-	m := newModel(c, k, 1, distance.Euclidean{}, nil)
-	m.training = &kmeans.Training{Rows: k, Clusters: make([]kmeans.ClusterSummary, k)}
-	for j := range k {
-		m.training.Clusters[j] = kmeans.ClusterSummary{Size: 1, Weight: 1}
+	m, res := clusterRows(t, rows, k)
+	for j, c := range m.Training().Clusters {
+		require.Equal(t, 1, res.Sizes[j])
+		require.Zero(t, c.Distances.P99)
 	}
 	dr, err := NewDrift(m)
 	require.NoError(t, err)
-	dr.ObserveBatch([]kmeans.Assignment{{kmeans.Cluster: 39, Distance: 1}, {kmeans.Cluster: 0}})
+	dr.ObserveBatch([]kmeans.Assignment{{Cluster: 39, Distance: 1}, {Cluster: 0}})
 	s := dr.Snapshot()
 	assert.Equal(t, int64(2), s.Rows)
 	assert.Equal(t, 0.5, s.BeyondP99)
+	assert.Equal(t, 1.0, s.Clusters[39].BeyondP99)
+	assert.Zero(t, s.Clusters[0].BeyondP99)
 }

@@ -32,7 +32,7 @@ type Holder struct {
 }
 
 // Served is a model installed in a Holder, with what a service reports
-// about it. It is never modified after Swap publishes it.
+// about it. Its fields are never modified after Swap publishes it.
 type Served struct {
 	// Model answers requests.
 	Model *kmeans.Model
@@ -43,6 +43,27 @@ type Served struct {
 	Drift *Drift
 	// Since is when Swap installed the model.
 	Since time.Time
+
+	doc *document // nil for a Served not made by Swap
+}
+
+// document caches the model document of a Served.
+type document struct {
+	once sync.Once
+	b    []byte
+	err  error
+}
+
+// Document returns the model document ([kmeans.Model.MarshalJSON]). A Served
+// made by Holder.Swap encodes it once, on the first call, and returns the
+// same bytes to every later caller, concurrent ones included; the caller
+// must not modify them.
+func (s *Served) Document() ([]byte, error) {
+	if s.doc == nil {
+		return s.Model.MarshalJSON()
+	}
+	s.doc.once.Do(func() { s.doc.b, s.doc.err = s.Model.MarshalJSON() })
+	return s.doc.b, s.doc.err
 }
 
 // Load returns the installed model and its companions, or nil before the
@@ -59,7 +80,7 @@ func (h *Holder) Model() *kmeans.Model {
 }
 
 // Swap installs next and returns what it replaced (nil on the first Swap).
-// It refuses, returning an error wrapping ErrModel (or the error of
+// It refuses, returning an error wrapping [kmeans.ErrModel] (or the error of
 // Accept) and keeping the current model, if next is nil or has no
 // centers, cannot be encoded (no checksum), or Accept rejects it. A new
 // Drift monitor starts with next when it has a training summary.
@@ -83,7 +104,7 @@ func (h *Holder) Swap(next *kmeans.Model) (*Served, error) {
 			return nil, err
 		}
 	}
-	s := &Served{Model: next, Checksum: sum, Since: time.Now().UTC()}
+	s := &Served{Model: next, Checksum: sum, Since: time.Now().UTC(), doc: new(document)}
 	if next.Training() != nil {
 		if s.Drift, err = NewDrift(next); err != nil {
 			return nil, err
@@ -97,7 +118,7 @@ func (h *Holder) Swap(next *kmeans.Model) (*Served, error) {
 // same rows as the current model, that is have the same dimension and the
 // same feature names in the same order (or, like the current model, none).
 // Any model is accepted when there is no current one. Otherwise it returns
-// an error wrapping ErrSchema.
+// an error wrapping [kmeans.ErrSchema].
 func SameSchema(current, next *kmeans.Model) error {
 	if current == nil {
 		return nil

@@ -2,18 +2,20 @@ package serve
 
 import (
 	"context"
+	"encoding/json"
 	"fmt"
 	"runtime"
 	"sync"
 	"sync/atomic"
 	"testing"
 
-	"github.com/centroidlab/centroid/internal/data/bikeshare"
-	"github.com/centroidlab/centroid/kmeans"
-	"github.com/centroidlab/centroid/scale"
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/centroidlab/centroid/internal/data/bikeshare"
+	"github.com/centroidlab/centroid/kmeans"
+	"github.com/centroidlab/centroid/scale"
 )
 
 // TestServeAllocs checks that the vector and named-field paths allocate
@@ -173,4 +175,18 @@ func TestHolderRefuses(t *testing.T) {
 	prev, err = h.Swap(named.WithCreated(s.Since))
 	require.NoError(t, err)
 	assert.Same(t, s, prev)
+
+	// The document is encoded once per Served: the same bytes each time.
+	want, err := json.Marshal(named)
+	require.NoError(t, err)
+	doc, err := s.Document()
+	require.NoError(t, err)
+	again, err := s.Document()
+	require.NoError(t, err)
+	assert.Equal(t, string(want), string(doc))
+	assert.Same(t, &doc[0], &again[0])
+	plain := &Served{Model: named} // not made by Swap: encoded on each call
+	doc, err = plain.Document()
+	require.NoError(t, err)
+	assert.Equal(t, string(want), string(doc))
 }

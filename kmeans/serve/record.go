@@ -21,7 +21,8 @@ const (
 )
 
 // FieldError reports one field of a record that the model cannot use. It
-// unwraps to ErrNotFinite for FieldNotFinite and to ErrSchema otherwise.
+// unwraps to [kmeans.ErrNotFinite] for FieldNotFinite and to
+// [kmeans.ErrSchema] otherwise.
 type FieldError struct {
 	// Field is the field's name.
 	Field string
@@ -30,12 +31,12 @@ type FieldError struct {
 	Problem string
 }
 
-// Error returns a message such as `kmeans: field "elevation_m": missing`.
+// Error returns a message such as `serve: field "elevation_m": missing`.
 func (e *FieldError) Error() string {
 	return fmt.Sprintf("serve: field %s: %s", strconv.Quote(e.Field), e.Problem)
 }
 
-// Unwrap returns ErrNotFinite or ErrSchema.
+// Unwrap returns [kmeans.ErrNotFinite] or [kmeans.ErrSchema].
 func (e *FieldError) Unwrap() error {
 	if e.Problem == FieldNotFinite {
 		return kmeans.ErrNotFinite
@@ -56,7 +57,7 @@ type Field struct {
 type Record []Field
 
 // MarshalJSON encodes r as a JSON object with its fields in order. It
-// returns an error wrapping ErrNotFinite for NaN or ±Inf values.
+// returns an error wrapping [kmeans.ErrNotFinite] for NaN or ±Inf values.
 func (r Record) MarshalJSON() ([]byte, error) {
 	var b bytes.Buffer
 	b.WriteByte('{')
@@ -85,8 +86,8 @@ func (r Record) MarshalJSON() ([]byte, error) {
 
 // UnmarshalJSON decodes a JSON object of numbers into r, keeping the order
 // of the fields. A repeated name or a value that is not a number returns a
-// *FieldError (ErrSchema); a number beyond the float64 range one with
-// FieldNotFinite (ErrNotFinite). JSON null leaves r unchanged.
+// *FieldError ([kmeans.ErrSchema]); a number beyond the float64 range one
+// with FieldNotFinite ([kmeans.ErrNotFinite]). JSON null leaves r unchanged.
 func (r *Record) UnmarshalJSON(b []byte) error {
 	dec := json.NewDecoder(bytes.NewReader(b))
 	dec.UseNumber()
@@ -164,8 +165,8 @@ func repeatedName(r Record, names *map[string]bool, name string) bool {
 // the column order of the model's schema and returns it. It returns a
 // *FieldError for the first unknown, repeated or non-finite field of r (in
 // r's order), else for the first missing feature (in schema order); an
-// error wrapping kmeans.ErrSchema if the model has no feature names;
-// kmeans.ErrDimension if len(dst) is wrong.
+// error wrapping [kmeans.ErrSchema] if the model has no feature names;
+// [kmeans.ErrDimension] if len(dst) is wrong.
 func Vector(m *kmeans.Model, dst []float64, r Record) ([]float64, error) {
 	if err := checkSchema(m); err != nil {
 		return nil, err
@@ -192,7 +193,7 @@ func AssignRecord(m *kmeans.Model, r Record) (kmeans.Assignment, error) {
 // AssignMap is m.Assign for a row given as a map from feature name to
 // value. It returns a *FieldError for the alphabetically first unknown
 // name, else for the first non-finite value, else for the first missing
-// feature (both in schema order); an error wrapping kmeans.ErrSchema if the
+// feature (both in schema order); an error wrapping [kmeans.ErrSchema] if the
 // model has no feature names. It allocates nothing when m.Dim() ≤ 64.
 func AssignMap(m *kmeans.Model, fields map[string]float64) (kmeans.Assignment, error) {
 	return assignNamed(m, nil, fields)
@@ -241,43 +242,84 @@ func assignNamed(m *kmeans.Model, r Record, fields map[string]float64) (kmeans.A
 
 // fillRecord writes the fields of r into raw (len d) by schema column.
 func fillRecord(m *kmeans.Model, raw []float64, r Record) error {
-	d := len(raw)
-	var mask uint64 // seen columns when d ≤ 64
-	var seen []bool
-	if d > 64 {
-		seen = make([]bool, d)
-	}
-	count := 0
-	for _, f := range r {
-		j, ok := m.Column(f.Name)
+	var f rowFill
+	f.start(len(raw))
+	for _, fld := range r {
+		j, ok := m.Column(fld.Name)
 		if !ok {
-			return &FieldError{Field: f.Name, Problem: FieldUnknown}
+			return &FieldError{Field: fld.Name, Problem: FieldUnknown}
 		}
-		if seen != nil {
-			if seen[j] {
-				return &FieldError{Field: f.Name, Problem: FieldRepeated}
-			}
-			seen[j] = true
-		} else {
-			if mask&(1<<j) != 0 {
-				return &FieldError{Field: f.Name, Problem: FieldRepeated}
-			}
-			mask |= 1 << j
+		if p := f.set(raw, j, fld.Value); p != "" {
+			return &FieldError{Field: fld.Name, Problem: p}
 		}
-		if math.IsNaN(f.Value) || math.IsInf(f.Value, 0) {
-			return &FieldError{Field: f.Name, Problem: FieldNotFinite}
-		}
-		raw[j] = f.Value
-		count++
 	}
-	if count < d {
-		for j, name := range m.Features() {
-			if (seen != nil && !seen[j]) || (seen == nil && mask&(1<<j) == 0) {
-				return &FieldError{Field: name, Problem: FieldMissing}
-			}
-		}
+	if j := f.missing(); j >= 0 {
+		return &FieldError{Field: m.Features()[j], Problem: FieldMissing}
 	}
 	return nil
+}
+
+// rowFill tracks the columns of a raw row written from fields given in
+// any order, and reports the first problem. It allocates nothing for rows
+// of up to 64 columns. (It does not hold the row, so that a row on the
+// caller's stack stays there.)
+type rowFill struct {
+	d     int
+	mask  uint64 // columns set, when d ≤ 64
+	seen  []bool // columns set, when d > 64
+	count int
+}
+
+// start prepares f for a row of d columns, forgetting earlier fields.
+func (f *rowFill) start(d int) {
+	f.d, f.mask, f.count = d, 0, 0
+	if d > 64 {
+		if cap(f.seen) < d {
+			f.seen = make([]bool, d)
+		}
+		f.seen = f.seen[:d]
+		clear(f.seen)
+	}
+}
+
+// has reports whether column j is set.
+func (f *rowFill) has(j int) bool {
+	if f.d > 64 {
+		return f.seen[j]
+	}
+	return f.mask&(1<<j) != 0
+}
+
+// set writes v into column j of raw and returns "" or the problem:
+// FieldRepeated for a column already set, FieldNotFinite for NaN or ±Inf.
+func (f *rowFill) set(raw []float64, j int, v float64) string {
+	if f.has(j) {
+		return FieldRepeated
+	}
+	if f.d > 64 {
+		f.seen[j] = true
+	} else {
+		f.mask |= 1 << j
+	}
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return FieldNotFinite
+	}
+	raw[j] = v
+	f.count++
+	return ""
+}
+
+// missing returns the first column not set, or -1 if every column is.
+func (f *rowFill) missing() int {
+	if f.count == f.d {
+		return -1
+	}
+	for j := range f.d {
+		if !f.has(j) {
+			return j
+		}
+	}
+	return -1
 }
 
 // fillMap writes fields into raw (len d) by schema column.

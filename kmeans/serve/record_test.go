@@ -7,11 +7,11 @@ import (
 	"math"
 	"testing"
 
-	"github.com/centroidlab/centroid/distance"
-	"github.com/centroidlab/centroid/internal/data/bikeshare"
-	"github.com/centroidlab/centroid/kmeans"
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
+
+	"github.com/centroidlab/centroid/internal/data/bikeshare"
+	"github.com/centroidlab/centroid/kmeans"
 )
 
 // stationRecord returns the features of s as a Record in schema order.
@@ -82,7 +82,7 @@ func TestAssignByNameErrors(t *testing.T) {
 			assert.Equal(t, c.field, fe.Field)
 			assert.Equal(t, c.problem, fe.Problem)
 			require.ErrorIs(t, err, c.is)
-			assert.Equal(t, fmt.Sprintf("kmeans: field %q: %s", c.field, c.problem), err.Error())
+			assert.Equal(t, fmt.Sprintf("serve: field %q: %s", c.field, c.problem), err.Error())
 			_, err = Vector(m, nil, c.rec)
 			require.ErrorIs(t, err, c.is)
 
@@ -119,18 +119,26 @@ func TestAssignByNameErrors(t *testing.T) {
 	require.ErrorIs(t, err, kmeans.ErrSchema)
 	_, err = Vector(m, make([]float64, 2), base)
 	require.ErrorIs(t, err, kmeans.ErrDimension)
-	var zero kmeans.Model
-	_, err = AssignRecord(zero, base)
-	require.ErrorIs(t, err, kmeans.ErrModel)
+	for _, zero := range []*kmeans.Model{nil, {}} {
+		_, err = AssignRecord(zero, base)
+		require.ErrorIs(t, err, kmeans.ErrModel)
+		_, err = AssignMap(zero, map[string]float64{})
+		require.ErrorIs(t, err, kmeans.ErrModel)
+		_, err = Vector(zero, nil, base)
+		require.ErrorIs(t, err, kmeans.ErrModel)
+	}
 }
 
 // TestAssignByNameWide covers schemas wider than the stack buffers.
 func TestAssignByNameWide(t *testing.T) {
 	for _, d := range []int{63, 64, 65, 100} {
 		k := 3
-		c := make([]float64, k*d)
-		for i := range c {
-			c[i] = float64(i % 7)
+		c := make([][]float64, k)
+		for j := range c {
+			c[j] = make([]float64, d)
+			for i := range c[j] {
+				c[j][i] = float64((j*d + i) % 7)
+			}
 		}
 		names := make([]string, d)
 		rec := make(Record, d)
@@ -140,7 +148,7 @@ func TestAssignByNameWide(t *testing.T) {
 			x[j] = float64(j % 5)
 			rec[j] = Field{names[j], x[j]}
 		}
-		m, err := newModel(c, k, d, distance.Euclidean{}, nil).WithFeatures(names)
+		m, err := v1Model(t, c).WithFeatures(names)
 		require.NoError(t, err)
 		want, err := m.Assign(x)
 		require.NoError(t, err)

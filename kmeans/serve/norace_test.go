@@ -1,6 +1,6 @@
 //go:build !race
 
-package main
+package serve
 
 // raceEnabled scales the load test down under the race detector.
 const raceEnabled = false
