@@ -74,6 +74,11 @@ func Cluster(ctx context.Context, p Problem, s *Settings, m Method) (*Result, er
 		return nil, err
 	}
 
+	trials, patience := swapPlan(set, sp, p.K)
+	if trials > 0 && set.SwapTrials == 0 && (s == nil || s.Restarts == 0) {
+		// The automatic refinement replaces most restarts.
+		set.Restarts = DefaultRefinedRestarts
+	}
 	conc := min(set.Restarts, set.Workers)
 	sp.workers = max(1, set.Workers/conc)
 
@@ -132,6 +137,9 @@ func Cluster(ctx context.Context, p Problem, s *Settings, m Method) (*Result, er
 		}
 		return nil, firstErr
 	}
+	if trials > 0 && ctx.Err() == nil {
+		best = refineBest(ctx, sp.WithWorkers(set.Workers), best, p.K, m, set, trials, patience, progress, &stats)
+	}
 	stats.Method = methodName(m)
 	res := sp.result(best, p.K, stats)
 	if p.Features != nil {
@@ -146,6 +154,30 @@ func Cluster(ctx context.Context, p Problem, s *Settings, m Method) (*Result, er
 		return res, cerr
 	}
 	return res, nil
+}
+
+// refineBest runs the random-swap refinement on the winning restart and,
+// if a swap was accepted, the method from the refined centers to a fixed
+// point; it returns the better of the two outcomes (the unrefined one when
+// ctx ends first) and records the work in stats.
+func refineBest(ctx context.Context, sp *Space, best *outcome, k int, m Method, set Settings, trials, patience int, progress func(Progress), stats *Stats) *outcome {
+	centers, tried, accepted, evals := refine(ctx, sp, best, k, set.Seed, trials, patience)
+	stats.SwapTrials, stats.SwapsAccepted = tried, accepted
+	stats.Distances += evals
+	if centers == nil || ctx.Err() != nil {
+		return best
+	}
+	given := seeding.Given{Centers: mat.NewDense(k, sp.D, centers)}
+	o, err := runRestart(ctx, sp, k, set.Restarts, given, m, set, progress)
+	if err != nil || o == nil || o.status == Canceled || !(o.cost < best.cost) {
+		return best
+	}
+	stats.Passes += o.iterations
+	stats.Distances += o.distances
+	stats.Refined = true
+	o.restart = best.restart
+	o.iterations += best.iterations
+	return o
 }
 
 // isStop reports whether err says a restart stopped because the context

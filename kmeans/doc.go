@@ -33,19 +33,48 @@
 // (ties to the lowest row, never a row equal to another repaired center);
 // Stats.EmptyRepairs counts these repairs.
 //
+// # Refinement
+//
+// k-means stops at a local optimum, and with many clusters restarts rarely
+// escape it: a true cluster keeps two centers while two others share one.
+// So Cluster refines the best restart by random swap (P. Fränti,
+// "Efficiency of random swap clustering", Journal of Big Data 5:13, 2018):
+// a trial moves a center, chosen at random, to a row drawn with
+// probability proportional to its share of the cost, runs two local
+// k-means iterations and keeps the result if the cost drops; after the
+// last trial the Method runs from the kept centers to a fixed point. The
+// automatic rule (Settings.SwapTrials zero) refines Euclidean problems with
+// k ≥ MinSwapK and d ≤ MaxSwapDim, stops after DefaultSwapPatience·k
+// trials in a row without an accepted swap or DefaultSwapTrialsPerK·k
+// trials, and then runs DefaultRefinedRestarts restarts instead of
+// DefaultRestarts. Stats.SwapTrials and SwapsAccepted report the work.
+// The refined cost never exceeds that of the restart it refines.
+//
 // # Determinism
 //
 // The same data, settings and seed give bit-identical results for any
 // Settings.Workers: rows are split into blocks that depend only on the
 // number of rows, and per-block statistics (Partial) are merged in block
-// order. Restart r seeds its generator with (Settings.Seed, r).
+// order. Restart r seeds its generator with (Settings.Seed, r); the swap
+// trials use their own stream and run in a fixed order.
 //
-// # Choosing k
+// # Packages below kmeans
 //
-// Sweep scores a range of k (internal indices, the knee of the cost curve,
-// the gap statistic and stability under resampling) and recommends one by a
-// documented heuristic; MeasureStability and Describe judge and explain a
-// single clustering.
+// This package is the core; the packages that build on it live below it
+// and are imported by it never:
+//
+//	kmeans/choosek   choosing k: Sweep over a range of k, stability under resampling
+//	kmeans/profile   each cluster explained in the units of the raw data
+//	kmeans/serve     Holder, Drift, rows given by name, an http.Handler
+//	kmeans/stream    row sources, streaming Lloyd, mini-batch, k-means‖
+//	kmeans/plot      figures of a sweep, silhouettes, principal components
+//	kmeans           Cluster, Problem, Settings, Method, Result, Model, Partial
+//	validate, scale, seeding, distance, internal/...
+//
+// Code outside this package makes a Model from centers with NewModel, seeds
+// from given centers with seeding.Given, turns merged Partial statistics
+// into centers with Partial.Centers and reads the clustering space with
+// NewSpace.
 //
 // # Invariants
 //
@@ -67,9 +96,7 @@
 //
 // # Serving
 //
-// Holder keeps the model a service answers with behind an atomic pointer:
-// reads never lock and never see a half-loaded model, and Swap validates a
-// model before publishing it. Drift counts assignments on sharded atomic
-// counters and compares the cluster shares and far-from-center rows with
-// the training summary.
+// Model.Nearest and Model.Assign label raw rows without allocating and are
+// safe for concurrent use; package kmeans/serve adds hot swapping, drift
+// monitoring, rows given by feature name and an HTTP handler.
 package kmeans

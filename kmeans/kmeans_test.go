@@ -263,7 +263,7 @@ func TestCancel(t *testing.T) {
 
 func TestIterationLimitAndTolerance(t *testing.T) {
 	x := blobs(4000, 2, 30, 6)
-	res, err := Cluster(context.Background(), Problem{Data: x, K: 30, Seeder: seeding.Random{}}, &Settings{Restarts: 1, MaxIterations: 2}, nil)
+	res, err := Cluster(context.Background(), Problem{Data: x, K: 30, Seeder: seeding.Random{}}, &Settings{Restarts: 1, MaxIterations: 2, SwapTrials: -1}, nil)
 	require.NoError(t, err)
 	assert.Equal(t, IterationLimit, res.Status)
 	assert.Equal(t, 2, res.Iterations)
@@ -272,7 +272,7 @@ func TestIterationLimitAndTolerance(t *testing.T) {
 		require.Equal(t, bruteNearest(distance.Euclidean{}, x.RawRowView(i), c), res.Assignments[i])
 	}
 	var costs []float64
-	tol, err := Cluster(context.Background(), Problem{Data: x, K: 30, Seeder: seeding.Random{}}, &Settings{Restarts: 1, Tolerance: 0.01,
+	tol, err := Cluster(context.Background(), Problem{Data: x, K: 30, Seeder: seeding.Random{}}, &Settings{Restarts: 1, Tolerance: 0.01, SwapTrials: -1,
 		Progress: func(p Progress) { costs = append(costs, p.Cost) }}, nil)
 	require.NoError(t, err)
 	assert.Equal(t, CostTolerance, tol.Status)

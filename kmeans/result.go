@@ -47,6 +47,13 @@ type Stats struct {
 	EmptyRepairs int
 	// Method names the solver that ran.
 	Method string
+	// SwapTrials and SwapsAccepted count the random-swap trials run on the
+	// winning restart and those that lowered its cost (see
+	// Settings.SwapTrials); Refined reports whether the result comes from
+	// the refinement (its final passes are counted in Passes and
+	// Distances, and in Result.Iterations).
+	SwapTrials, SwapsAccepted int
+	Refined                   bool
 }
 
 func (sp *Space) result(best *outcome, k int, stats Stats) *Result {

@@ -59,7 +59,9 @@ const (
 type Settings struct {
 	// Restarts is the number of independent seedings; the result with the
 	// lowest Cost wins, ties going to the lowest restart index. Zero means
-	// DefaultRestarts (10). Negative or above MaxRestarts is an error.
+	// DefaultRestarts (10), or DefaultRefinedRestarts (2) when the
+	// automatic random-swap refinement runs (see SwapTrials). Negative or
+	// above MaxRestarts is an error.
 	Restarts int
 	// MaxIterations limits the assignment passes of each restart. Zero
 	// means DefaultMaxIterations (300). Negative is an error.
@@ -76,6 +78,19 @@ type Settings struct {
 	// Results do not depend on it. Negative or above MaxWorkers is an
 	// error.
 	Workers int
+	// SwapTrials sets the random-swap refinement of the winning restart
+	// (see the package documentation, "Refinement"): zero means the
+	// automatic rule: refine when the metric is Euclidean, k ≥ MinSwapK
+	// and d ≤ MaxSwapDim, with at most DefaultSwapTrialsPerK·k trials, and
+	// then, if Restarts is zero, run DefaultRefinedRestarts restarts
+	// instead of DefaultRestarts. Negative turns it off; positive is the
+	// largest number of trials (any k and d, under Euclidean; other
+	// metrics are not refined).
+	SwapTrials int
+	// SwapPatience stops the refinement after this many trials in a row
+	// without an accepted swap. Zero means DefaultSwapPatience·k; negative
+	// is an error.
+	SwapPatience int
 	// Progress, if not nil, is called after every assignment pass of every
 	// restart. Calls are serialised (never concurrent) but restarts run
 	// concurrently, so calls of different restarts interleave. It must not
@@ -107,6 +122,8 @@ func (s *Settings) Resolve() (Settings, error) {
 		return r, fmt.Errorf("%w: MaxIterations = %d", ErrSettings, r.MaxIterations)
 	case r.Workers < 0 || r.Workers > MaxWorkers:
 		return r, fmt.Errorf("%w: Workers = %d, want 0 ≤ Workers ≤ %d", ErrSettings, r.Workers, MaxWorkers)
+	case r.SwapPatience < 0:
+		return r, fmt.Errorf("%w: SwapPatience = %d", ErrSettings, r.SwapPatience)
 	case math.IsNaN(r.Tolerance) || r.Tolerance < 0 || r.Tolerance >= 1:
 		return r, fmt.Errorf("%w: Tolerance = %v, want 0 ≤ Tolerance < 1", ErrSettings, r.Tolerance)
 	}
