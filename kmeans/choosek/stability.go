@@ -8,12 +8,12 @@ import (
 	"math/rand/v2"
 	"slices"
 
-	"github.com/centroidlab/centroid/internal/sample"
-	"github.com/centroidlab/centroid/kmeans"
-
-	"github.com/centroidlab/centroid/validate"
 	"gonum.org/v1/gonum/blas/blas64"
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/centroidlab/centroid/internal/sample"
+	"github.com/centroidlab/centroid/kmeans"
+	"github.com/centroidlab/centroid/validate"
 )
 
 // Defaults of StabilityOptions.
@@ -23,7 +23,7 @@ const (
 	DefaultStabilityRestarts  = 3
 )
 
-// StabilityOptions tunes MeasureStability. A nil *StabilityOptions and the
+// StabilityOptions tunes [MeasureStability]. A nil *StabilityOptions and the
 // zero value mean the defaults.
 type StabilityOptions struct {
 	// Resamples is the number B of subsamples clustered again. Zero means
@@ -67,48 +67,6 @@ func (o *StabilityOptions) resolved() (StabilityOptions, error) {
 	return r, nil
 }
 
-// Verdict is the reading of a cluster's mean Jaccard stability.
-type Verdict int
-
-const (
-	// Unstable: mean Jaccard below validate.JaccardUnstable (0.6). The
-	// cluster is not reproduced by resamples and should not be trusted.
-	Unstable Verdict = iota
-	// Doubtful: mean Jaccard from 0.6 up to validate.JaccardStable (0.75).
-	// There is a pattern, but its exact membership is doubtful.
-	Doubtful
-	// Stable: mean Jaccard at least 0.75.
-	Stable
-)
-
-// String returns the verdict's name.
-func (v Verdict) String() string {
-	switch v {
-	case Unstable:
-		return "unstable"
-	case Doubtful:
-		return "doubtful"
-	case Stable:
-		return "stable"
-	}
-	return fmt.Sprintf("Verdict(%d)", int(v))
-}
-
-// Judge reads a mean Jaccard similarity with the thresholds of C. Hennig,
-// "Cluster-wise assessment of cluster stability", Computational Statistics
-// & Data Analysis 52, 2007: below 0.6 unstable, 0.75 and above stable,
-// doubtful in between. The thresholds are common practice attributed to
-// that paper, not properties of the similarity (see validate.JaccardStable).
-func Judge(jaccard float64) Verdict {
-	switch {
-	case jaccard >= validate.JaccardStable:
-		return Stable
-	case jaccard >= validate.JaccardUnstable:
-		return Doubtful
-	}
-	return Unstable
-}
-
 // Stability is how well a clustering survives being re-clustered on subsamples
 // of its rows.
 type Stability struct {
@@ -126,11 +84,14 @@ type Stability struct {
 	// Jaccard[j] is the mean, over the resamples that drew rows of cluster j of
 	// the reference clustering, of the Jaccard similarity between those
 	// rows and the most similar cluster of the resample
-	// (validate.ClusterJaccard). A reference cluster with no rows, or never
+	// ([validate.ClusterJaccard]). A reference cluster with no rows, or never
 	// drawn, gets 0.
 	Jaccard []float64
 	// Drawn[j] is the number of resamples that drew rows of cluster j.
 	Drawn []int
+	// Lost[j] is the number of those resamples that lost cluster j: its
+	// best Jaccard similarity was at most [validate.JaccardLost] (0.5).
+	Lost []int
 }
 
 // MinJaccard returns the smallest per-cluster Jaccard stability: the
@@ -142,16 +103,18 @@ func (s *Stability) MinJaccard() float64 {
 	return slices.Min(s.Jaccard)
 }
 
-// Verdict returns the reading (Judge) of the weakest cluster.
-func (s *Stability) Verdict() Verdict { return Judge(s.MinJaccard()) }
+// Reading returns the reading ([validate.ReadJaccard]) of the weakest
+// cluster: a clustering is only as trustworthy as its least reproduced
+// cluster.
+func (s *Stability) Reading() validate.Reproduction { return validate.ReadJaccard(s.MinJaccard()) }
 
-// Verdicts returns the reading (Judge) of every cluster.
-func (s *Stability) Verdicts() []Verdict {
-	v := make([]Verdict, len(s.Jaccard))
+// Readings returns the reading ([validate.ReadJaccard]) of every cluster.
+func (s *Stability) Readings() []validate.Reproduction {
+	r := make([]validate.Reproduction, len(s.Jaccard))
 	for j, x := range s.Jaccard {
-		v[j] = Judge(x)
+		r[j] = validate.ReadJaccard(x)
 	}
-	return v
+	return r
 }
 
 // MeasureStability clusters subsamples of the rows of problem p again and
@@ -204,14 +167,14 @@ func MeasureStability(ctx context.Context, p kmeans.Problem, ref []int, s *kmean
 	return stabilityOf(ctx, p, ref, set, m, opt)
 }
 
-// stabilityOf is MeasureStability after the checks, with resolved settings.
+// stabilityOf is [MeasureStability] after the checks, with resolved settings.
 func stabilityOf(ctx context.Context, p kmeans.Problem, ref []int, set kmeans.Settings, m kmeans.Method, opt StabilityOptions) (*Stability, error) {
 	n, _ := p.Data.Dims()
 	size := int(math.Round(opt.Fraction * float64(n)))
 	if size < p.K || size < 2 {
 		return nil, fmt.Errorf("%w: a subsample of %d of %d rows cannot hold K = %d clusters (raise Fraction)", kmeans.ErrK, size, n, p.K)
 	}
-	st := &Stability{K: p.K, Resamples: opt.Resamples, Fraction: opt.Fraction, Jaccard: make([]float64, p.K), Drawn: make([]int, p.K)}
+	st := &Stability{K: p.K, Resamples: opt.Resamples, Fraction: opt.Fraction, Jaccard: make([]float64, p.K), Drawn: make([]int, p.K), Lost: make([]int, p.K)}
 	rows := make([][]int, opt.Resamples)
 	labels := make([][]int, opt.Resamples)
 	for b := range opt.Resamples {
@@ -246,6 +209,9 @@ func stabilityOf(ctx context.Context, p kmeans.Problem, ref []int, set kmeans.Se
 			if !math.IsNaN(best[t]) {
 				st.Jaccard[j] += best[t]
 				st.Drawn[j]++
+				if best[t] <= validate.JaccardLost {
+					st.Lost[j]++
+				}
 			}
 		}
 	}

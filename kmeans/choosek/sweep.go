@@ -4,17 +4,15 @@ import (
 	"context"
 	"errors"
 	"fmt"
-	"io"
 	"math"
 	"math/rand/v2"
-	"strings"
 	"sync"
-	"text/tabwriter"
+
+	"gonum.org/v1/gonum/mat"
 
 	"github.com/centroidlab/centroid/distance"
 	"github.com/centroidlab/centroid/kmeans"
 	"github.com/centroidlab/centroid/validate"
-	"gonum.org/v1/gonum/mat"
 )
 
 // Defaults of Options.
@@ -26,7 +24,7 @@ const (
 	DefaultGapRestarts         = 2
 )
 
-// Options tunes Sweep. A nil *Options and the zero value mean the
+// Options tunes [Sweep]. A nil *Options and the zero value mean the
 // defaults: every index, the gap statistic with 10 reference sets and
 // stability with 10 resamples.
 type Options struct {
@@ -34,7 +32,7 @@ type Options struct {
 	// silhouette is computed exactly, in O(n²d) time. Above it the mean is
 	// estimated from SilhouetteSamples rows drawn without replacement, each
 	// scored against all n rows, with a 95% confidence interval
-	// (validate.SampledSilhouette). Zero means DefaultExactSilhouetteRows
+	// ([validate.SampledSilhouette]). Zero means DefaultExactSilhouetteRows
 	// (2000); negative is invalid.
 	ExactSilhouetteRows int
 	// SilhouetteSamples is the sample size of the estimated silhouette.
@@ -46,9 +44,11 @@ type Options struct {
 	// and a maximum over all pairs). Zero means DefaultDunnRows (2000);
 	// negative means never.
 	DunnRows int
-	// KneeSensitivity is Kneedle's S for the knee of the cost curve
-	// (validate.KneeOptions). Zero means 1; negative is invalid.
-	KneeSensitivity float64
+	// KneeFlatSteps is how many steps of k the cost curve must run flat
+	// after a bend before the bend counts as its knee
+	// ([validate.KneeOptions].FlatSteps). Zero means
+	// [validate.DefaultKneeFlatSteps] (1); negative is invalid.
+	KneeFlatSteps float64
 	// SkipGap turns the gap statistic off: it clusters GapReferences
 	// reference sets for every k, which usually costs more than the rest
 	// of the sweep.
@@ -58,7 +58,7 @@ type Options struct {
 	// values are invalid.
 	GapReferences int
 	// GapReference is the null distribution of the gap statistic; the zero
-	// value is validate.PCABox.
+	// value is [validate.PCABox].
 	GapReference validate.Reference
 	// GapRestarts is Settings.Restarts of each reference clustering. Zero
 	// means DefaultGapRestarts (2); negative is invalid.
@@ -66,7 +66,7 @@ type Options struct {
 	// SkipStability turns the stability resamples off. Every k is then
 	// admissible in the recommendation.
 	SkipStability bool
-	// Stability tunes the resamples (see MeasureStability); the zero value
+	// Stability tunes the resamples (see [MeasureStability]); the zero value
 	// means the defaults.
 	Stability StabilityOptions
 }
@@ -91,8 +91,8 @@ func (o *Options) resolved() (Options, error) {
 	if r.DunnRows == 0 {
 		r.DunnRows = DefaultDunnRows
 	}
-	if !(r.KneeSensitivity >= 0) || math.IsInf(r.KneeSensitivity, 1) {
-		return r, fmt.Errorf("%w: KneeSensitivity = %v", kmeans.ErrSettings, r.KneeSensitivity)
+	if !(r.KneeFlatSteps >= 0) || math.IsInf(r.KneeFlatSteps, 1) {
+		return r, fmt.Errorf("%w: KneeFlatSteps = %v", kmeans.ErrSettings, r.KneeFlatSteps)
 	}
 	switch {
 	case r.GapReferences == 0:
@@ -117,7 +117,7 @@ func (o *Options) resolved() (Options, error) {
 	return r, nil
 }
 
-// Point is the evidence Sweep gathered for one k. Every score is
+// Point is the evidence [Sweep] gathered for one k. Every score is
 // measured in the clustering (scaled) space. A value that is undefined for
 // this k (the internal indices at k = 1) or was not computed (Dunn above
 // Options.DunnRows, Gap when skipped) is NaN.
@@ -146,100 +146,14 @@ type Point struct {
 	Stability *Stability
 }
 
-// Criterion names one line of evidence in a Recommendation.
-type Criterion int
-
-const (
-	// BySilhouette votes for the highest mean silhouette.
-	BySilhouette Criterion = iota
-	// ByDaviesBouldin votes for the lowest Davies–Bouldin index.
-	ByDaviesBouldin
-	// ByCalinskiHarabasz votes for the highest Caliński–Harabasz ratio.
-	ByCalinskiHarabasz
-	// ByDunn votes for the highest Dunn index.
-	ByDunn
-	// ByKnee votes for the knee (elbow) of the cost curve found by
-	// Kneedle.
-	ByKnee
-	// ByGap votes for the k of the gap rule of Tibshirani et al.
-	ByGap
-	numCriteria
-)
-
-// String returns the criterion's name.
-func (c Criterion) String() string {
-	switch c {
-	case BySilhouette:
-		return "silhouette"
-	case ByDaviesBouldin:
-		return "Davies–Bouldin"
-	case ByCalinskiHarabasz:
-		return "Calinski–Harabasz"
-	case ByDunn:
-		return "Dunn"
-	case ByKnee:
-		return "knee"
-	case ByGap:
-		return "gap"
-	}
-	return fmt.Sprintf("Criterion(%d)", int(c))
-}
-
-// Vote is one criterion's preferred k and why.
-type Vote struct {
-	By Criterion
-	// K is the preferred number of clusters, 0 if the criterion abstains
-	// (not computed, undefined on every k, or its rule was not met).
-	K int
-	// Reason explains the vote or the abstention.
-	Reason string
-}
-
-// Recommendation is Sweep's suggested number of clusters with the
-// evidence behind it. It is a heuristic: the indices answer different
-// questions, and when they disagree the data rarely has one right k.
-type Recommendation struct {
-	// K is the recommended number of clusters.
-	K int
-	// Votes holds one vote per Criterion, in Criterion order.
-	Votes []Vote
-	// Support is the number of votes for K and Cast the number of votes
-	// cast (criteria that did not abstain).
-	Support, Cast int
-	// Admissible lists the swept ks whose clusterings passed the stability
-	// check (every cluster's mean Jaccard at least 0.6), in increasing
-	// order; every k when stability was skipped.
-	Admissible []int
-	// Reasons explains the choice, one sentence per entry.
-	Reasons []string
-}
-
-// String returns the recommendation, each vote and the reasons, one per
-// line.
-func (r *Recommendation) String() string {
-	var b strings.Builder
-	fmt.Fprintf(&b, "recommended k = %d (%d of %d votes)\n", r.K, r.Support, r.Cast)
-	for _, v := range r.Votes {
-		if v.K == 0 {
-			fmt.Fprintf(&b, "  %-18s abstains: %s\n", v.By, v.Reason)
-		} else {
-			fmt.Fprintf(&b, "  %-18s k = %-3d %s\n", v.By, v.K, v.Reason)
-		}
-	}
-	for _, s := range r.Reasons {
-		fmt.Fprintf(&b, "  %s\n", s)
-	}
-	return b.String()
-}
-
-// Result is the outcome of Sweep.
+// Result is the outcome of [Sweep].
 type Result struct {
 	// Points holds the evidence for every swept k, in increasing k.
 	Points []Point
 	// Knee is the k at the knee of the cost curve, 0 if Kneedle found none.
 	Knee int
 	// Gap is the gap statistic over the swept ks, nil if skipped or
-	// undefined (the gap vote then says why).
+	// undefined (the gap preference then says why).
 	Gap *validate.GapResult
 	// Recommendation is the suggested k with its evidence.
 	Recommendation Recommendation
@@ -280,44 +194,30 @@ func (r *Result) Recommended() *kmeans.Result {
 // learned scaler p.Scaler (as Model.Scaler().Apply gives them). For every
 // k ≥ 2:
 //
-//   - mean silhouette (validate.Silhouette), exact up to
+//   - mean silhouette ([validate.Silhouette]), exact up to
 //     Options.ExactSilhouetteRows rows and above that estimated from
-//     SilhouetteSamples rows with a 95% interval (validate.SampledSilhouette);
-//   - Davies–Bouldin and Caliński–Harabasz (validate.DaviesBouldin,
-//     validate.CalinskiHarabasz);
-//   - Dunn's index (validate.Dunn) up to Options.DunnRows rows;
-//   - stability: Resamples subsamples clustered again (MeasureStability),
+//     SilhouetteSamples rows with a 95% interval ([validate.SampledSilhouette]);
+//   - Davies–Bouldin and Caliński–Harabasz ([validate.DaviesBouldin],
+//     [validate.CalinskiHarabasz]);
+//   - Dunn's index ([validate.Dunn]) up to Options.DunnRows rows;
+//   - stability: Resamples subsamples clustered again ([MeasureStability]),
 //     the mean adjusted Rand index between them and the per-cluster Jaccard
 //     stability of Hennig (2007).
 //
-// Over all ks: the knee of the cost curve (validate.Knee, Kneedle) and the
-// gap statistic (validate.Gap; Tibshirani, Walther and Hastie 2001) with
+// Over all ks: the knee of the cost curve ([validate.Knee], Kneedle) and the
+// gap statistic ([validate.Gap]; Tibshirani, Walther and Hastie 2001) with
 // GapReferences reference sets, each clustered by Cluster with GapRestarts
 // restarts; the data's own dispersion W_k is the cost of the sweep's
 // clustering.
 //
-// # Recommendation rule
+// # Recommendation
 //
-// A documented heuristic of this package, not a theorem:
-//
-//  1. Each criterion votes for one swept k: the highest mean silhouette,
-//     the lowest Davies–Bouldin, the highest Caliński–Harabasz, the highest
-//     Dunn (when computed), the knee of the cost curve, and the gap rule
-//     (the smallest k with Gap(k) ≥ Gap(k+1) − s_{k+1}; it abstains when no
-//     swept k meets it). Ties within a criterion go to the smaller k. The
-//     internal indices are undefined at k = 1, so only the gap rule can
-//     vote for it.
-//  2. A k is admissible when no cluster of its clustering is unstable:
-//     every cluster's mean Jaccard over the resamples is at least 0.6 (the
-//     reading of Hennig 2007, common practice). k = 1 is always
-//     admissible, and so is every k when stability is skipped.
-//  3. The recommended k is the admissible k with the most votes, ties going
-//     to the smaller k. If no admissible k has a vote, it is the k with the
-//     most votes overall (ties to the smaller k) and the reasons say it is
-//     unstable; if no criterion votes at all, it is the smallest swept k.
-//
-// Structureless data tends to split the votes, and ties then go to the
-// smaller k; a clear structure gets most votes on one stable k.
+// Every criterion scores every swept k on [0, 1], 1 being its best k; the
+// combined score of a k is the mean of the scores defined there, and the
+// recommendation is the admissible k (stability check passed) with the
+// best combined score, with k = 1 decided by the gap rule. The rule, the
+// mapping of each criterion and how the rule behaves on reference data
+// sets are in the package documentation.
 //
 // # Cost
 //
@@ -399,12 +299,12 @@ func Sweep(ctx context.Context, p kmeans.Problem, ks []int, s *kmeans.Settings, 
 	}
 
 	res := &Result{Points: points}
-	kneeVote := res.knee(o.KneeSensitivity)
-	gapVote, err := res.gap(ctx, p, Z, set, m, &o)
+	knee := res.knee(o.KneeFlatSteps)
+	gap, err := res.gap(ctx, p, Z, set, m, &o)
 	if err != nil {
 		return nil, err
 	}
-	res.recommend(kneeVote, gapVote, !o.SkipStability)
+	res.recommend(knee, gap, !o.SkipStability)
 	return res, nil
 }
 
@@ -483,31 +383,45 @@ func scoreOrNaN(v float64, err error) (float64, error) {
 	return math.NaN(), err
 }
 
-// knee finds the knee of the cost curve and returns its vote.
-func (r *Result) knee(sensitivity float64) Vote {
-	v := Vote{By: ByKnee}
+// knee finds the knee of the cost curve and scores every k by its bend.
+// The curve is the running minimum of the cost over the swept ks: the best
+// cost with at most k clusters cannot rise with k, and a rise is a local
+// optimum of a restart, not part of the curve.
+func (r *Result) knee(flatSteps float64) curveEvidence {
+	ev := curveEvidence{pref: Preference{By: ByKnee}}
 	x := make([]float64, len(r.Points))
 	y := make([]float64, len(r.Points))
 	for i, p := range r.Points {
 		x[i], y[i] = float64(p.K), p.Cost
+		if i > 0 {
+			y[i] = min(y[i], y[i-1])
+		}
 	}
-	i, err := validate.Knee(x, y, &validate.KneeOptions{Sensitivity: sensitivity})
+	i, err := validate.Knee(x, y, &validate.KneeOptions{FlatSteps: flatSteps})
 	if err != nil {
-		v.Reason = fmt.Sprintf("no knee in the cost curve (%v)", err)
-		return v
+		ev.pref.Note = fmt.Sprintf("no knee in the cost curve (%v)", err)
+		return ev
+	}
+	bend, err := validate.KneeCurve(x, y)
+	if err != nil { // unreachable: Knee accepted the curve
+		ev.pref.Note = fmt.Sprintf("no knee in the cost curve (%v)", err)
+		return ev
 	}
 	r.Knee = r.Points[i].K
-	v.K = r.Knee
-	v.Reason = fmt.Sprintf("the cost curve bends most at k = %d (Kneedle): cost %.4g, then %.4g at k = %d", v.K, y[i], y[i+1], r.Points[i+1].K)
-	return v
+	ev.pref.K = r.Knee
+	ev.scores = kneeScores(bend, i)
+	ev.pref.Note = fmt.Sprintf("knee of the cost curve (Kneedle), %.2f below its chord: cost %.4g, then %.4g at k = %d",
+		bend[i], y[i], y[i+1], r.Points[i+1].K)
+	return ev
 }
 
-// gap computes the gap statistic and returns its vote.
-func (r *Result) gap(ctx context.Context, p kmeans.Problem, Z *mat.Dense, set kmeans.Settings, m kmeans.Method, o *Options) (Vote, error) {
-	v := Vote{By: ByGap}
+// gap computes the gap statistic and scores every k by it.
+func (r *Result) gap(ctx context.Context, p kmeans.Problem, Z *mat.Dense, set kmeans.Settings, m kmeans.Method, o *Options) (curveEvidence, error) {
+	ev := curveEvidence{pref: Preference{By: ByGap}}
+	v := &ev.pref
 	if o.SkipGap {
-		v.Reason = "gap statistic skipped"
-		return v, nil
+		v.Note = "gap statistic skipped"
+		return ev, nil
 	}
 	ks := make([]int, len(r.Points))
 	cost := make(map[int]float64, len(r.Points))
@@ -532,192 +446,26 @@ func (r *Result) gap(ctx context.Context, p kmeans.Problem, Z *mat.Dense, set km
 	})
 	if err != nil {
 		if cerr := ctx.Err(); cerr != nil {
-			return v, cerr
+			return ev, cerr
 		}
-		v.Reason = fmt.Sprintf("gap statistic undefined: %v", err)
-		return v, nil
+		v.Note = fmt.Sprintf("gap statistic undefined: %v", err)
+		return ev, nil
 	}
 	r.Gap = g
 	for i := range r.Points {
 		r.Points[i].Gap, r.Points[i].GapSE = g.Gap[i], g.SK[i]
 	}
 	if !g.Found {
-		v.Reason = fmt.Sprintf("no swept k has Gap(k) ≥ Gap(k+1) − s_{k+1} (%s reference, B = %d): extend the range", o.GapReference, o.GapReferences)
-		return v, nil
+		v.Note = fmt.Sprintf("no swept k has Gap(k) ≥ Gap(k+1) − s_{k+1} (%s reference, B = %d): extend the range", o.GapReference, o.GapReferences)
+		return ev, nil
 	}
 	i := 0
 	for ks[i] != g.Best {
 		i++
 	}
 	v.K = g.Best
-	v.Reason = fmt.Sprintf("smallest k with Gap(k) ≥ Gap(k+1) − s_{k+1}: %.3f ≥ %.3f − %.3f at k+1 = %d (%s reference, B = %d)",
+	ev.scores = gapScores(g.Gap, i)
+	v.Note = fmt.Sprintf("smallest k with Gap(k) ≥ Gap(k+1) − s_{k+1}: %.3f ≥ %.3f − %.3f at k+1 = %d (%s reference, B = %d)",
 		g.Gap[i], g.Gap[i+1], g.SK[i+1], ks[i+1], o.GapReference, o.GapReferences)
-	return v, nil
-}
-
-// recommend fills r.Recommendation from the index votes, the knee and gap
-// votes and the stability of every k (see Sweep).
-func (r *Result) recommend(knee, gap Vote, stability bool) {
-	rec := &r.Recommendation
-	rec.Votes = []Vote{
-		r.argVote(BySilhouette, func(p *Point) float64 { return p.Silhouette.Mean }, true),
-		r.argVote(ByDaviesBouldin, func(p *Point) float64 { return p.DaviesBouldin }, false),
-		r.argVote(ByCalinskiHarabasz, func(p *Point) float64 { return p.CalinskiHarabasz }, true),
-		r.argVote(ByDunn, func(p *Point) float64 { return p.Dunn }, true),
-		knee,
-		gap,
-	}
-	admissible := map[int]bool{}
-	for _, p := range r.Points {
-		if p.Stability == nil || p.Stability.Verdict() != Unstable {
-			admissible[p.K] = true
-			rec.Admissible = append(rec.Admissible, p.K)
-		}
-	}
-	count := map[int]int{}
-	for _, v := range rec.Votes {
-		if v.K != 0 {
-			count[v.K]++
-			rec.Cast++
-		}
-	}
-	pick := func(only map[int]bool) int {
-		best := 0
-		for _, p := range r.Points {
-			if (only == nil || only[p.K]) && count[p.K] > count[best] {
-				best = p.K
-			}
-		}
-		return best
-	}
-	rec.K = pick(admissible)
-	switch {
-	case rec.K != 0:
-		rec.Reasons = append(rec.Reasons, fmt.Sprintf("k = %d has the most votes among the admissible ks %v (ties go to the smaller k)", rec.K, rec.Admissible))
-	case rec.Cast > 0:
-		rec.K = pick(nil)
-		rec.Reasons = append(rec.Reasons, fmt.Sprintf("no admissible k got a vote; k = %d has the most votes overall but has an unstable cluster: treat it with care", rec.K))
-	default:
-		rec.K = r.Points[0].K
-		rec.Reasons = append(rec.Reasons, fmt.Sprintf("no criterion could vote; k = %d is the smallest swept k", rec.K))
-	}
-	rec.Support = count[rec.K]
-	if p := r.Point(rec.K); p != nil && p.Stability != nil {
-		st := p.Stability
-		rec.Reasons = append(rec.Reasons, fmt.Sprintf("stability at k = %d: mean ARI %.3f between %d resamples on %.0f%% subsamples; weakest cluster's mean Jaccard %.3f (%s; Hennig 2007: below 0.6 unstable, 0.75 and above stable)",
-			rec.K, st.MeanARI, st.Resamples, 100*st.Fraction, st.MinJaccard(), st.Verdict()))
-	} else if !stability {
-		rec.Reasons = append(rec.Reasons, "stability not measured: every k counted as admissible")
-	}
-	rec.Reasons = append(rec.Reasons, "this is a heuristic: read the votes, and prefer the k that serves the purpose when they disagree")
-}
-
-// argVote returns the vote of an index that is maximised (or minimised)
-// over the swept ks, ignoring NaN; ties go to the smaller k.
-func (r *Result) argVote(by Criterion, score func(*Point) float64, higher bool) Vote {
-	v := Vote{By: by}
-	best := math.NaN()
-	var bp *Point
-	for i := range r.Points {
-		s := score(&r.Points[i])
-		if math.IsNaN(s) {
-			continue
-		}
-		if bp == nil || (higher && s > best) || (!higher && s < best) {
-			best, bp = s, &r.Points[i]
-		}
-	}
-	if bp == nil {
-		v.Reason = "not computed for any swept k"
-		if by == ByDunn {
-			v.Reason = "not computed (more rows than Options.DunnRows, or k = 1 only)"
-		}
-		return v
-	}
-	v.K = bp.K
-	word := "highest"
-	if !higher {
-		word = "lowest"
-	}
-	v.Reason = fmt.Sprintf("%s %s: %.4g", word, by, best)
-	if by == BySilhouette {
-		if e := bp.Silhouette; e.Hi > e.Lo {
-			v.Reason += fmt.Sprintf(" (estimated from %d rows, 95%% interval %.3f–%.3f)", e.Samples, e.Lo, e.Hi)
-		} else {
-			v.Reason += " (exact)"
-		}
-	}
-	return v
-}
-
-// WriteTo writes the sweep as a table, one line per k (scores, stability
-// and the criteria that voted for it, the recommended k marked with *),
-// followed by the recommendation. It returns the number of bytes written.
-func (r *Result) WriteTo(w io.Writer) (int64, error) {
-	cw := &tallyWriter{w: w}
-	tw := tabwriter.NewWriter(cw, 0, 0, 2, ' ', tabwriter.AlignRight)
-	fmt.Fprintln(tw, " \tk\tcost\tsilhouette\tDavies–Bouldin\tCalinski–Harabasz\tDunn\tgap ± s_k\tmean ARI\tmin Jaccard\treading\t  votes")
-	for _, p := range r.Points {
-		mark := " "
-		if p.K == r.Recommendation.K {
-			mark = "*"
-		}
-		sil := fmtNum(p.Silhouette.Mean, 3)
-		if e := p.Silhouette; e.Hi > e.Lo {
-			sil = fmt.Sprintf("%.3f ±%.3f", e.Mean, (e.Hi-e.Lo)/2)
-		}
-		gap := "–"
-		if !math.IsNaN(p.Gap) {
-			gap = fmt.Sprintf("%.3f ± %.3f", p.Gap, p.GapSE)
-		}
-		ari, jac, reading := "–", "–", "–"
-		if st := p.Stability; st != nil {
-			ari = fmt.Sprintf("%.3f", st.MeanARI)
-			jac = fmt.Sprintf("%.3f", st.MinJaccard())
-			reading = st.Verdict().String()
-		}
-		var votes []string
-		for _, v := range r.Recommendation.Votes {
-			if v.K == p.K {
-				votes = append(votes, v.By.String())
-			}
-		}
-		voted := ""
-		if len(votes) > 0 {
-			voted = "  " + strings.Join(votes, ", ")
-		}
-		fmt.Fprintf(tw, "%s\t%d\t%.5g\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\n", mark, p.K, p.Cost, sil,
-			fmtNum(p.DaviesBouldin, 3), fmtNum(p.CalinskiHarabasz, 1), fmtNum(p.Dunn, 3), gap, ari, jac, reading, voted)
-	}
-	if err := tw.Flush(); err != nil {
-		return cw.n, err
-	}
-	_, err := io.WriteString(cw, "\n"+r.Recommendation.String())
-	return cw.n, err
-}
-
-// fmtNum formats v with the given decimals, or "–" for NaN.
-func fmtNum(v float64, decimals int) string {
-	if math.IsNaN(v) {
-		return "–"
-	}
-	return fmt.Sprintf("%.*f", decimals, v)
-}
-
-// tallyWriter counts the bytes written through it and keeps the first
-// error.
-type tallyWriter struct {
-	w   io.Writer
-	n   int64
-	err error
-}
-
-func (c *tallyWriter) Write(p []byte) (int, error) {
-	if c.err != nil {
-		return 0, c.err
-	}
-	n, err := c.w.Write(p)
-	c.n += int64(n)
-	c.err = err
-	return n, err
+	return ev, nil
 }
