@@ -400,8 +400,8 @@ func stabilitySentence(st *Stability) string {
 	if lost > 0 {
 		losses = fmt.Sprintf("resamples lost a cluster %d times (best Jaccard ≤ %.2g)", lost, validate.JaccardLost)
 	}
-	return fmt.Sprintf("stability at k = %d: %s, weakest mean Jaccard %.3f, %s; mean ARI %.3f between %d resamples of %.0f%% of the rows (Hennig 2007)",
-		st.K, what, st.MinJaccard(), losses, st.MeanARI, st.Resamples, 100*st.Fraction)
+	return fmt.Sprintf("stability at k = %d: %s, weakest mean Jaccard %.3f, %s; mean ARI %.3f between %d resamples of %.0f%% of %d rows (Hennig 2007)",
+		st.K, what, st.MinJaccard(), losses, st.MeanARI, st.Resamples, 100*st.Fraction, st.Rows)
 }
 
 // indexPreference returns the preference of an index that is maximised (or

@@ -85,6 +85,9 @@ func (r *Result) WriteTo(w io.Writer) (int64, error) {
 	if err := tw.Flush(); err != nil {
 		return cw.n, err
 	}
+	if r.SampleRows < r.Rows {
+		fmt.Fprintf(cw, "Dunn, stability and the gap statistic on a seeded sample of %d of the %d rows\n", r.SampleRows, r.Rows)
+	}
 
 	fmt.Fprintln(cw, "\nagreement: mean of the criteria's scores at k, each in [0, 1] with 1 at that criterion's best k")
 	fmt.Fprintf(cw, "  %s %3s  %-*s %s %s\n", " ", "k", barCells+5, "agreement", " ", "ranked first by")

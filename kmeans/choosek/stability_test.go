@@ -24,6 +24,7 @@ func TestStabilityClusteredVersusUniform(t *testing.T) {
 	t.Logf("clustered: mean ARI %.3f, Jaccard %.3f", st.MeanARI, st.Jaccard)
 	assert.Equal(t, DefaultStabilityResamples, st.Resamples)
 	assert.Equal(t, DefaultStabilityFraction, st.Fraction)
+	assert.Equal(t, 400, st.Rows)
 	for j, v := range st.Jaccard {
 		assert.Greater(t, v, 0.75, "cluster %d", j)
 		assert.Equal(t, st.Resamples, st.Drawn[j])

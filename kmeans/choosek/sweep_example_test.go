@@ -42,6 +42,33 @@ func ExampleSweep() {
 	// sizes: [76 74 50]
 }
 
+// A sweep reports its jobs as they finish. Jobs of different ks run at
+// the same time, so this example counts the reports per stage instead of
+// printing them in the order they came.
+func ExampleSweep_progress() {
+	_, X := bikeshare.Generate(300, 2)
+	reports := map[choosek.Stage]int{}
+	var last choosek.Progress
+	opts := &choosek.Options{GapReferences: 4, Stability: choosek.StabilityOptions{Resamples: 3},
+		Progress: func(p choosek.Progress) { reports[p.Stage]++; last = p }}
+	_, err := choosek.Sweep(context.Background(), kmeans.Problem{Data: X, Scaler: &scale.ZScore{}},
+		[]int{1, 2, 3, 4, 5}, &kmeans.Settings{Seed: 1, Restarts: 4}, nil, opts)
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	for _, s := range []choosek.Stage{choosek.StageClustering, choosek.StageIndices, choosek.StageStability, choosek.StageGap} {
+		fmt.Printf("%-10s %2d reports\n", s, reports[s])
+	}
+	fmt.Printf("last: %s, overall %.0f%%\n", last.Stage, 100*last.Overall)
+	// Output:
+	// clustering  5 reports
+	// indices     4 reports
+	// stability  12 reports
+	// gap        25 reports
+	// last: gap, overall 100%
+}
+
 // Two well-separated groups of stations are reproduced by every resample on
 // 80% subsamples.
 func ExampleMeasureStability() {

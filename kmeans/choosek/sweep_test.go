@@ -60,6 +60,9 @@ func TestSweepBadInput(t *testing.T) {
 		{"one gap reference", kmeans.Problem{Data: x}, []int{2}, nil, &Options{GapReferences: 1}, kmeans.ErrSettings},
 		{"negative gap restarts", kmeans.Problem{Data: x}, []int{2}, nil, &Options{GapRestarts: -2}, kmeans.ErrSettings},
 		{"unknown reference", kmeans.Problem{Data: x}, []int{2}, nil, &Options{GapReference: 7}, kmeans.ErrSettings},
+		{"NaN gap tolerance", kmeans.Problem{Data: x}, []int{2}, nil, &Options{GapTolerance: math.NaN()}, kmeans.ErrSettings},
+		{"gap tolerance 1", kmeans.Problem{Data: x}, []int{2}, nil, &Options{GapTolerance: 1}, kmeans.ErrSettings},
+		{"sample smaller than K", kmeans.Problem{Data: x}, []int{2, 3}, nil, &Options{SkipGap: true, SampleRows: 3}, kmeans.ErrK},
 		{"NaN knee flat steps", kmeans.Problem{Data: x}, []int{2}, nil, &Options{KneeFlatSteps: math.NaN()}, kmeans.ErrSettings},
 		{"negative knee flat steps", kmeans.Problem{Data: x}, []int{2}, nil, &Options{KneeFlatSteps: -1}, kmeans.ErrSettings},
 		{"one resample", kmeans.Problem{Data: x}, []int{2}, nil, &Options{Stability: StabilityOptions{Resamples: 1}}, kmeans.ErrSettings},
@@ -198,7 +201,7 @@ func TestSweepS1S2(t *testing.T) {
 			set := reference.LoadOrSkip(t, name)
 			cb := reference.LoadOrSkip(t, name+"-cb")
 			r, err := Sweep(context.Background(), kmeans.Problem{Data: set.X}, ks, &kmeans.Settings{Seed: 1, Restarts: 5}, nil,
-				&Options{SkipGap: true, Stability: StabilityOptions{Resamples: resamples, Restarts: 2}})
+				&Options{SkipGap: true, DunnRows: -1, Stability: StabilityOptions{Resamples: resamples, Restarts: 2}})
 			require.NoError(t, err)
 			var b strings.Builder
 			r.WriteTo(&b)
