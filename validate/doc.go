@@ -34,8 +34,12 @@
 // AMIWith, VMeasureParts and ClusterJaccard are building blocks and variants
 // of the external indices; see their documentation.
 //
-// Knee finds the elbow of a cost curve (cost against k) with Kneedle; with
-// Gap and the internal indices it helps choose the number of clusters.
+// Knee finds the elbow of a falling cost curve (cost against k) with
+// Kneedle, and KneeCurve gives every point's bend below the chord; with Gap
+// and the internal indices they help choose the number of clusters.
+// ClusterJaccard compares a clustering with a refit on resampled rows,
+// cluster by cluster, and ReadJaccard reads the mean over many refits as
+// Reproduced, PartlyReproduced or NotReproduced (Hennig 2007).
 // The function documentation gives each index's formula, source and its
 // exact conventions for degenerate input.
 //

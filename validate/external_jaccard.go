@@ -6,23 +6,76 @@ import (
 	"slices"
 )
 
-// Reading of a reference cluster's mean best Jaccard similarity over many
-// resampled refits (see ClusterJaccard), following C. Hennig, "Cluster-wise
-// assessment of cluster stability", Computational Statistics & Data Analysis
-// 52:258–271, 2007. The thresholds are common practice attributed to that
-// paper (quoted from memory), not properties of the similarity itself.
+// Thresholds for reading a reference cluster's Jaccard similarities over
+// many resampled refits (see ClusterJaccard and ReadJaccard), following C.
+// Hennig, "Cluster-wise assessment of cluster stability", Computational
+// Statistics & Data Analysis 52:258–271, 2007. The values are common
+// practice attributed to that paper (quoted from memory), not properties of
+// the similarity itself.
 const (
-	// JaccardDissolved: a refit in which a cluster's best Jaccard similarity
-	// is at most this value counts as dissolving the cluster.
-	JaccardDissolved = 0.5
-	// JaccardUnstable: a cluster whose mean is below this value is unstable
-	// and should not be trusted.
-	JaccardUnstable = 0.6
-	// JaccardStable: a cluster whose mean is this value or more is stable.
-	// Means between JaccardUnstable and JaccardStable indicate a pattern
-	// whose exact membership is doubtful.
-	JaccardStable = 0.75
+	// JaccardLost: a refit in which a cluster's best Jaccard similarity is
+	// at most this value has lost the cluster: even its best match in the
+	// refit shares at most half of the rows of their union.
+	JaccardLost = 0.5
+	// JaccardPartly: a cluster whose mean best Jaccard is at least this
+	// value (and below JaccardReproduced) is partly reproduced: the refits
+	// find a pattern there, but its exact membership varies.
+	JaccardPartly = 0.6
+	// JaccardReproduced: a cluster whose mean best Jaccard is at least
+	// this value is reproduced by the refits.
+	JaccardReproduced = 0.75
 )
+
+// JaccardStable is the former name of JaccardReproduced.
+//
+// Deprecated: use JaccardReproduced or ReadJaccard.
+const JaccardStable = JaccardReproduced
+
+// Reproduction is how well refits of resampled data reproduce a cluster,
+// read from its mean best Jaccard similarity by ReadJaccard. The zero value
+// is NotReproduced, the cautious reading.
+type Reproduction int
+
+const (
+	// NotReproduced: mean below JaccardPartly (0.6). The refits do not
+	// find the cluster; do not build on it.
+	NotReproduced Reproduction = iota
+	// PartlyReproduced: mean from JaccardPartly (0.6) up to
+	// JaccardReproduced (0.75). The refits find a pattern, but its rows
+	// change from refit to refit.
+	PartlyReproduced
+	// Reproduced: mean at least JaccardReproduced (0.75).
+	Reproduced
+)
+
+// String returns the reading in words: "not reproduced", "partly
+// reproduced" or "reproduced".
+func (r Reproduction) String() string {
+	switch r {
+	case NotReproduced:
+		return "not reproduced"
+	case PartlyReproduced:
+		return "partly reproduced"
+	case Reproduced:
+		return "reproduced"
+	}
+	return fmt.Sprintf("Reproduction(%d)", int(r))
+}
+
+// ReadJaccard reads a cluster's mean best Jaccard similarity over
+// resampled refits (the mean of ClusterJaccard's best over the refits that
+// drew rows of the cluster) with the thresholds of Hennig (2007):
+// Reproduced from 0.75, PartlyReproduced from 0.6, NotReproduced below
+// (and for NaN, a cluster no refit saw).
+func ReadJaccard(mean float64) Reproduction {
+	switch {
+	case mean >= JaccardReproduced:
+		return Reproduced
+	case mean >= JaccardPartly:
+		return PartlyReproduced
+	}
+	return NotReproduced
+}
 
 // ClusterJaccard compares a reference clustering of a full data set with
 // another clustering of rows drawn from it, cluster by cluster, as in
@@ -46,8 +99,8 @@ const (
 // should skip it). labels lists the distinct values of ref in ascending
 // order and best[i] belongs to the cluster labels[i]; for a reference that
 // uses every label 0..k-1, best[i] is cluster i. A stability driver averages
-// best over many refits and reads the means with JaccardStable and
-// JaccardUnstable.
+// best over many refits, reads the means with ReadJaccard and counts the
+// refits in which best ≤ JaccardLost as losing the cluster.
 //
 // Labels follow the conventions of Contingency. It returns an error
 // wrapping ErrEmpty if ref or other is empty, ErrLength if len(rows) (or n,

@@ -132,3 +132,28 @@ func TestClusterJaccardBruteForce(t *testing.T) {
 		}
 	}
 }
+
+// TestReadJaccard checks the reading against the thresholds of C. Hennig,
+// "Cluster-wise assessment of cluster stability", CSDA 52, 2007, as they
+// are commonly applied (common practice): 0.75 and above reproduced, below
+// 0.6 not reproduced, at most 0.5 in one refit lost.
+func TestReadJaccard(t *testing.T) {
+	for _, c := range []struct {
+		mean float64
+		want Reproduction
+	}{
+		{0, NotReproduced}, {0.5, NotReproduced}, {0.599, NotReproduced}, {math.NaN(), NotReproduced},
+		{0.6, PartlyReproduced}, {0.7499, PartlyReproduced},
+		{0.75, Reproduced}, {0.9, Reproduced}, {1, Reproduced},
+	} {
+		assert.Equal(t, c.want, ReadJaccard(c.mean), "%v", c.mean)
+	}
+	assert.Equal(t, 0.5, JaccardLost)
+	assert.Equal(t, 0.6, JaccardPartly)
+	assert.Equal(t, 0.75, JaccardReproduced)
+	assert.Equal(t, JaccardReproduced, JaccardStable)
+	assert.Equal(t, "not reproduced|partly reproduced|reproduced|Reproduction(7)",
+		NotReproduced.String()+"|"+PartlyReproduced.String()+"|"+Reproduced.String()+"|"+Reproduction(7).String())
+	var zero Reproduction
+	assert.Equal(t, NotReproduced, zero, "the zero value is the cautious reading")
+}

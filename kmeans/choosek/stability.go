@@ -8,12 +8,12 @@ import (
 	"math/rand/v2"
 	"slices"
 
-	"github.com/centroidlab/centroid/internal/sample"
-	"github.com/centroidlab/centroid/kmeans"
-
-	"github.com/centroidlab/centroid/validate"
 	"gonum.org/v1/gonum/blas/blas64"
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/centroidlab/centroid/internal/sample"
+	"github.com/centroidlab/centroid/kmeans"
+	"github.com/centroidlab/centroid/validate"
 )
 
 // Defaults of StabilityOptions.
@@ -23,7 +23,7 @@ const (
 	DefaultStabilityRestarts  = 3
 )
 
-// StabilityOptions tunes MeasureStability. A nil *StabilityOptions and the
+// StabilityOptions tunes [MeasureStability]. A nil *StabilityOptions and the
 // zero value mean the defaults.
 type StabilityOptions struct {
 	// Resamples is the number B of subsamples clustered again. Zero means
@@ -67,55 +67,16 @@ func (o *StabilityOptions) resolved() (StabilityOptions, error) {
 	return r, nil
 }
 
-// Verdict is the reading of a cluster's mean Jaccard stability.
-type Verdict int
-
-const (
-	// Unstable: mean Jaccard below validate.JaccardUnstable (0.6). The
-	// cluster is not reproduced by resamples and should not be trusted.
-	Unstable Verdict = iota
-	// Doubtful: mean Jaccard from 0.6 up to validate.JaccardStable (0.75).
-	// There is a pattern, but its exact membership is doubtful.
-	Doubtful
-	// Stable: mean Jaccard at least 0.75.
-	Stable
-)
-
-// String returns the verdict's name.
-func (v Verdict) String() string {
-	switch v {
-	case Unstable:
-		return "unstable"
-	case Doubtful:
-		return "doubtful"
-	case Stable:
-		return "stable"
-	}
-	return fmt.Sprintf("Verdict(%d)", int(v))
-}
-
-// Judge reads a mean Jaccard similarity with the thresholds of C. Hennig,
-// "Cluster-wise assessment of cluster stability", Computational Statistics
-// & Data Analysis 52, 2007: below 0.6 unstable, 0.75 and above stable,
-// doubtful in between. The thresholds are common practice attributed to
-// that paper, not properties of the similarity (see validate.JaccardStable).
-func Judge(jaccard float64) Verdict {
-	switch {
-	case jaccard >= validate.JaccardStable:
-		return Stable
-	case jaccard >= validate.JaccardUnstable:
-		return Doubtful
-	}
-	return Unstable
-}
-
 // Stability is how well a clustering survives being re-clustered on subsamples
 // of its rows.
 type Stability struct {
 	// K is the number of clusters.
 	K int
+	// Rows is the number of rows the resamples were drawn from: all rows of
+	// the problem, or the seeded sample of [Sweep] (Options.SampleRows).
+	Rows int
 	// Resamples and Fraction are the number of subsamples and the share of
-	// rows in each.
+	// the Rows in each.
 	Resamples int
 	Fraction  float64
 	// MeanARI is the adjusted Rand index between two resamples, computed on
@@ -126,11 +87,14 @@ type Stability struct {
 	// Jaccard[j] is the mean, over the resamples that drew rows of cluster j of
 	// the reference clustering, of the Jaccard similarity between those
 	// rows and the most similar cluster of the resample
-	// (validate.ClusterJaccard). A reference cluster with no rows, or never
+	// ([validate.ClusterJaccard]). A reference cluster with no rows, or never
 	// drawn, gets 0.
 	Jaccard []float64
 	// Drawn[j] is the number of resamples that drew rows of cluster j.
 	Drawn []int
+	// Lost[j] is the number of those resamples that lost cluster j: its
+	// best Jaccard similarity was at most [validate.JaccardLost] (0.5).
+	Lost []int
 }
 
 // MinJaccard returns the smallest per-cluster Jaccard stability: the
@@ -142,16 +106,18 @@ func (s *Stability) MinJaccard() float64 {
 	return slices.Min(s.Jaccard)
 }
 
-// Verdict returns the reading (Judge) of the weakest cluster.
-func (s *Stability) Verdict() Verdict { return Judge(s.MinJaccard()) }
+// Reading returns the reading ([validate.ReadJaccard]) of the weakest
+// cluster: a clustering is only as trustworthy as its least reproduced
+// cluster.
+func (s *Stability) Reading() validate.Reproduction { return validate.ReadJaccard(s.MinJaccard()) }
 
-// Verdicts returns the reading (Judge) of every cluster.
-func (s *Stability) Verdicts() []Verdict {
-	v := make([]Verdict, len(s.Jaccard))
+// Readings returns the reading ([validate.ReadJaccard]) of every cluster.
+func (s *Stability) Readings() []validate.Reproduction {
+	r := make([]validate.Reproduction, len(s.Jaccard))
 	for j, x := range s.Jaccard {
-		v[j] = Judge(x)
+		r[j] = validate.ReadJaccard(x)
 	}
-	return v
+	return r
 }
 
 // MeasureStability clusters subsamples of the rows of problem p again and
@@ -204,48 +170,96 @@ func MeasureStability(ctx context.Context, p kmeans.Problem, ref []int, s *kmean
 	return stabilityOf(ctx, p, ref, set, m, opt)
 }
 
-// stabilityOf is MeasureStability after the checks, with resolved settings.
+// stabilityOf is [MeasureStability] after the checks, with resolved settings.
 func stabilityOf(ctx context.Context, p kmeans.Problem, ref []int, set kmeans.Settings, m kmeans.Method, opt StabilityOptions) (*Stability, error) {
-	n, _ := p.Data.Dims()
-	size := int(math.Round(opt.Fraction * float64(n)))
-	if size < p.K || size < 2 {
-		return nil, fmt.Errorf("%w: a subsample of %d of %d rows cannot hold K = %d clusters (raise Fraction)", kmeans.ErrK, size, n, p.K)
+	size, err := resampleSize(p, opt)
+	if err != nil {
+		return nil, err
 	}
-	st := &Stability{K: p.K, Resamples: opt.Resamples, Fraction: opt.Fraction, Jaccard: make([]float64, p.K), Drawn: make([]int, p.K)}
-	rows := make([][]int, opt.Resamples)
-	labels := make([][]int, opt.Resamples)
+	draws := make([]redraw, opt.Resamples)
 	for b := range opt.Resamples {
 		if err := ctx.Err(); err != nil {
 			return nil, err
 		}
-		rows[b] = subsample(n, size, sweepMix(set.Seed, stabilityStream, uint64(b)))
-		sub := p
-		sub.Data = selectRows(p.Data, rows[b])
-		if p.Weights != nil {
-			sub.Weights = make([]float64, size)
-			for t, i := range rows[b] {
-				sub.Weights[t] = p.Weights[i]
+		if draws[b], err = resample(ctx, p, ref, set, m, opt, size, b); err != nil {
+			return nil, err
+		}
+	}
+	return combineRedraws(p, opt, draws)
+}
+
+// redraw is the outcome of one stability resample: the rows drawn
+// (ascending), the labels the refit gave them, and the best Jaccard
+// similarity of every reference cluster (NaN for a cluster not drawn).
+type redraw struct {
+	rows, labels []int
+	best         []float64
+}
+
+// resampleSize returns the number of rows of every resample of p, or an
+// error wrapping ErrK if it cannot hold p.K clusters.
+func resampleSize(p kmeans.Problem, opt StabilityOptions) (int, error) {
+	n, _ := p.Data.Dims()
+	size := int(math.Round(opt.Fraction * float64(n)))
+	if size < p.K || size < 2 {
+		return 0, fmt.Errorf("%w: a subsample of %d of %d rows cannot hold K = %d clusters (raise Fraction)", kmeans.ErrK, size, n, p.K)
+	}
+	return size, nil
+}
+
+// resample draws resample b of size rows from p, clusters it and compares
+// it with the reference assignments ref, cluster by cluster. Its random
+// streams depend only on set.Seed and b.
+func resample(ctx context.Context, p kmeans.Problem, ref []int, set kmeans.Settings, m kmeans.Method, opt StabilityOptions, size, b int) (redraw, error) {
+	n, _ := p.Data.Dims()
+	rows := subsample(n, size, sweepMix(set.Seed, stabilityStream, uint64(b)))
+	sub := p
+	sub.Data = selectRows(p.Data, rows)
+	if p.Weights != nil {
+		sub.Weights = make([]float64, size)
+		for t, i := range rows {
+			sub.Weights[t] = p.Weights[i]
+		}
+	}
+	rs := set
+	rs.Restarts = opt.Restarts
+	rs.Seed = sweepMix(set.Seed, redrawStream, uint64(b))
+	res, err := kmeans.Cluster(ctx, sub, &rs, m)
+	if err != nil {
+		if errors.Is(err, kmeans.ErrK) || errors.Is(err, kmeans.ErrWeights) {
+			return redraw{}, fmt.Errorf("stability resample %d on %d of %d rows: %w (raise Fraction)", b, size, n, err)
+		}
+		return redraw{}, fmt.Errorf("stability resample %d: %w", b, err)
+	}
+	present, best, err := validate.ClusterJaccard(ref, res.Assignments, rows)
+	if err != nil {
+		return redraw{}, fmt.Errorf("stability resample %d: %w", b, err)
+	}
+	r := redraw{rows: rows, labels: res.Assignments, best: make([]float64, p.K)}
+	for j := range r.best {
+		r.best[j] = math.NaN()
+	}
+	for t, j := range present {
+		r.best[j] = best[t]
+	}
+	return r, nil
+}
+
+// combineRedraws averages the resamples, in resample order, into the
+// stability of the reference clustering.
+func combineRedraws(p kmeans.Problem, opt StabilityOptions, draws []redraw) (*Stability, error) {
+	n, _ := p.Data.Dims()
+	st := &Stability{K: p.K, Rows: n, Resamples: opt.Resamples, Fraction: opt.Fraction,
+		Jaccard: make([]float64, p.K), Drawn: make([]int, p.K), Lost: make([]int, p.K)}
+	for _, d := range draws {
+		for j, v := range d.best {
+			if math.IsNaN(v) {
+				continue
 			}
-		}
-		rs := set
-		rs.Restarts = opt.Restarts
-		rs.Seed = sweepMix(set.Seed, redrawStream, uint64(b))
-		res, err := kmeans.Cluster(ctx, sub, &rs, m)
-		if err != nil {
-			if errors.Is(err, kmeans.ErrK) || errors.Is(err, kmeans.ErrWeights) {
-				return nil, fmt.Errorf("stability resample %d on %d of %d rows: %w (raise Fraction)", b, size, n, err)
-			}
-			return nil, fmt.Errorf("stability resample %d: %w", b, err)
-		}
-		labels[b] = res.Assignments
-		present, best, err := validate.ClusterJaccard(ref, res.Assignments, rows[b])
-		if err != nil {
-			return nil, fmt.Errorf("stability resample %d: %w", b, err)
-		}
-		for t, j := range present {
-			if !math.IsNaN(best[t]) {
-				st.Jaccard[j] += best[t]
-				st.Drawn[j]++
+			st.Jaccard[j] += v
+			st.Drawn[j]++
+			if v <= validate.JaccardLost {
+				st.Lost[j]++
 			}
 		}
 	}
@@ -256,9 +270,9 @@ func stabilityOf(ctx context.Context, p kmeans.Problem, ref []int, set kmeans.Se
 	}
 	var sum float64
 	pairs := 0
-	for a := range opt.Resamples {
-		for b := a + 1; b < opt.Resamples; b++ {
-			la, lb := commonLabels(rows[a], labels[a], rows[b], labels[b])
+	for a := range draws {
+		for b := a + 1; b < len(draws); b++ {
+			la, lb := commonLabels(draws[a].rows, draws[a].labels, draws[b].rows, draws[b].labels)
 			if len(la) < 2 {
 				continue
 			}
@@ -292,6 +306,7 @@ const (
 	sweepKStream     = 0x6b6b6b6b // seeds of the clustering of each k
 	silhouetteStream = 0x73696c68 // "silh": sampled silhouette rows
 	gapStream        = 0x67617073 // "gaps": gap statistic
+	sampleStream     = 0x73616d70 // "samp": the sample of the expensive criteria
 )
 
 // sweepMix derives a seed from seed, a stream and an index with the

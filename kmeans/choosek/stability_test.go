@@ -7,6 +7,7 @@ import (
 	"testing"
 
 	"github.com/centroidlab/centroid/kmeans"
+	"github.com/centroidlab/centroid/validate"
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
 )
@@ -23,12 +24,14 @@ func TestStabilityClusteredVersusUniform(t *testing.T) {
 	t.Logf("clustered: mean ARI %.3f, Jaccard %.3f", st.MeanARI, st.Jaccard)
 	assert.Equal(t, DefaultStabilityResamples, st.Resamples)
 	assert.Equal(t, DefaultStabilityFraction, st.Fraction)
+	assert.Equal(t, 400, st.Rows)
 	for j, v := range st.Jaccard {
 		assert.Greater(t, v, 0.75, "cluster %d", j)
 		assert.Equal(t, st.Resamples, st.Drawn[j])
 	}
 	assert.Greater(t, st.MeanARI, 0.99)
-	assert.Equal(t, Stable, st.Verdict())
+	assert.Equal(t, validate.Reproduced, st.Reading())
+	assert.Equal(t, []int{0, 0, 0, 0}, st.Lost, "no resample loses a well-separated cluster")
 
 	// The same with the generating labels as the reference.
 	st2, err := MeasureStability(ctx, kmeans.Problem{Data: blobs, K: 4}, truth, &kmeans.Settings{Seed: 3}, nil, nil)
@@ -41,7 +44,29 @@ func TestStabilityClusteredVersusUniform(t *testing.T) {
 	t.Logf("uniform, k = 5: mean ARI %.3f, Jaccard %.3f", su.MeanARI, su.Jaccard)
 	assert.Less(t, su.MeanARI, st.MeanARI-0.1)
 	assert.Less(t, su.MinJaccard(), st.MinJaccard()-0.1)
-	assert.Less(t, su.MinJaccard(), 0.75, "some cut of uniform data is not stable")
+	assert.Less(t, su.MinJaccard(), 0.75, "some cut of uniform data is not reproduced")
+	assert.NotEqual(t, validate.Reproduced, su.Reading())
+	checkLost(t, st)
+	checkLost(t, su)
+}
+
+// checkLost checks Lost against what it implies for the means: a resample
+// that loses cluster j contributes at most validate.JaccardLost to its mean
+// and one that keeps it more than that, at most 1.
+func checkLost(t *testing.T, st *Stability) {
+	t.Helper()
+	require.Len(t, st.Lost, st.K)
+	for j := range st.K {
+		d, l := float64(st.Drawn[j]), float64(st.Lost[j])
+		require.LessOrEqual(t, st.Lost[j], st.Drawn[j])
+		if d == 0 {
+			continue
+		}
+		assert.LessOrEqual(t, st.Jaccard[j], (validate.JaccardLost*l+(d-l))/d+1e-12, "cluster %d", j)
+		if l < d {
+			assert.Greater(t, st.Jaccard[j], validate.JaccardLost*(d-l)/d, "cluster %d", j)
+		}
+	}
 }
 
 func TestStabilityDeterministic(t *testing.T) {
@@ -92,19 +117,15 @@ func TestStabilityBadInput(t *testing.T) {
 	}
 }
 
-// TestJudge checks the thresholds of Hennig (2007) as commonly read
-// (common practice): below 0.6 unstable, 0.75 and above stable.
-func TestJudge(t *testing.T) {
-	for _, c := range []struct {
-		j    float64
-		want Verdict
-	}{{0, Unstable}, {0.599, Unstable}, {0.6, Doubtful}, {0.749, Doubtful}, {0.75, Stable}, {1, Stable}} {
-		assert.Equal(t, c.want, Judge(c.j), "%v", c.j)
-	}
-	assert.Equal(t, "unstable doubtful stable Verdict(5)", fmt.Sprint(Unstable, " ", Doubtful, " ", Stable, " ", Verdict(5)))
-	st := &Stability{Jaccard: []float64{0.9, 0.65, 0.2}}
-	assert.Equal(t, []Verdict{Stable, Doubtful, Unstable}, st.Verdicts())
+// TestStabilityReadings checks the per-cluster readings follow
+// validate.ReadJaccard and the clustering's reading is its weakest
+// cluster's.
+func TestStabilityReadings(t *testing.T) {
+	st := &Stability{K: 3, Jaccard: []float64{0.9, 0.65, 0.2}}
+	assert.Equal(t, []validate.Reproduction{validate.Reproduced, validate.PartlyReproduced, validate.NotReproduced}, st.Readings())
+	assert.Equal(t, validate.NotReproduced, st.Reading())
 	assert.Equal(t, 0.2, st.MinJaccard())
+	assert.Equal(t, validate.PartlyReproduced, (&Stability{Jaccard: []float64{0.8, 0.7}}).Reading())
 	assert.Zero(t, (&Stability{}).MinJaccard())
 }
 

@@ -4,71 +4,112 @@ import (
 	"context"
 	"errors"
 	"fmt"
-	"io"
 	"math"
 	"math/rand/v2"
-	"strings"
-	"sync"
-	"text/tabwriter"
+
+	"gonum.org/v1/gonum/mat"
 
 	"github.com/centroidlab/centroid/distance"
 	"github.com/centroidlab/centroid/kmeans"
 	"github.com/centroidlab/centroid/validate"
-	"gonum.org/v1/gonum/mat"
 )
 
 // Defaults of Options.
 const (
 	DefaultExactSilhouetteRows = 2000
 	DefaultSilhouetteSamples   = 1000
-	DefaultDunnRows            = 2000
+	DefaultDunnRows            = 4000
+	DefaultSampleRows          = 4000
 	DefaultGapReferences       = 10
 	DefaultGapRestarts         = 2
+	DefaultGapTolerance        = 1e-4
 )
 
-// Options tunes Sweep. A nil *Options and the zero value mean the
+// Options tunes [Sweep]. A nil *Options and the zero value mean the
 // defaults: every index, the gap statistic with 10 reference sets and
-// stability with 10 resamples.
+// stability with 10 resamples, the last two and Dunn's index on a seeded
+// sample of 4000 rows when the data has more. With these defaults a sweep
+// over k = 1..8 of 20 000 rows of 6 features costs a few times one
+// default [kmeans.Cluster] at k = 8 (BenchmarkSweep20000x6).
 type Options struct {
 	// ExactSilhouetteRows is the largest number of rows for which the mean
 	// silhouette is computed exactly, in O(n²d) time. Above it the mean is
 	// estimated from SilhouetteSamples rows drawn without replacement, each
 	// scored against all n rows, with a 95% confidence interval
-	// (validate.SampledSilhouette). Zero means DefaultExactSilhouetteRows
+	// ([validate.SampledSilhouette]). Zero means DefaultExactSilhouetteRows
 	// (2000); negative is invalid.
 	ExactSilhouetteRows int
 	// SilhouetteSamples is the sample size of the estimated silhouette.
-	// Zero means DefaultSilhouetteSamples (1000); 1 and negative values
-	// are invalid.
+	// Zero means DefaultSilhouetteSamples (1000): the half-width of the
+	// 95% interval is then about 2·sd/√1000 ≈ 0.06·sd of the rows'
+	// silhouettes (0.01 to 0.02 on the reference sets); 1 and negative
+	// values are invalid.
 	SilhouetteSamples int
-	// DunnRows is the largest number of rows for which Dunn's index is
-	// computed; it takes O(n²d) time and has no sampled form (a minimum
-	// and a maximum over all pairs). Zero means DefaultDunnRows (2000);
-	// negative means never.
+	// SampleRows is the size of the seeded sample, drawn once without
+	// replacement and shared by all ks, on which Dunn's index, the
+	// stability resamples and the gap statistic are computed when the data
+	// has more rows; the other indices and the clusterings use every row.
+	// Zero means DefaultSampleRows (4000); negative means never sample.
+	//
+	// Why 4000: a stability resample then holds 3200 rows (80%), so a
+	// cluster with 2% of the data still has about 64 rows in it and its
+	// Jaccard similarity moves in steps under 2%; the gap statistic's
+	// spread s_k over 10 reference sets of 4000 rows is about 0.01 (on the
+	// benchmark data), well below the gaps between neighbouring ks that the
+	// gap rule reads; and these criteria cost time linear in the sample
+	// (Dunn quadratic), so a fixed sample keeps a sweep of a large data set
+	// at the price of a few clusterings of it. Dunn's index on a sample is
+	// an estimate: its minimum separation can only grow and its maximum
+	// diameter only shrink, so it reads optimistic.
+	SampleRows int
+	// DunnRows is the largest number of rows (of the sample, if the data is
+	// sampled) for which Dunn's index is computed; it takes O(n²d) time and
+	// has no sampled form. Zero means DefaultDunnRows (4000); negative
+	// means never.
 	DunnRows int
-	// KneeSensitivity is Kneedle's S for the knee of the cost curve
-	// (validate.KneeOptions). Zero means 1; negative is invalid.
-	KneeSensitivity float64
-	// SkipGap turns the gap statistic off: it clusters GapReferences
-	// reference sets for every k, which usually costs more than the rest
-	// of the sweep.
+	// KneeFlatSteps is how many steps of k the cost curve must run flat
+	// after a bend before the bend counts as its knee
+	// ([validate.KneeOptions].FlatSteps). Zero means
+	// [validate.DefaultKneeFlatSteps] (1); negative is invalid.
+	KneeFlatSteps float64
+	// SkipGap turns the gap statistic off.
 	SkipGap bool
 	// GapReferences is the number B of reference data sets of the gap
 	// statistic. Zero means DefaultGapReferences (10); 1 and negative
 	// values are invalid.
 	GapReferences int
 	// GapReference is the null distribution of the gap statistic; the zero
-	// value is validate.PCABox.
+	// value is [validate.PCABox].
 	GapReference validate.Reference
-	// GapRestarts is Settings.Restarts of each reference clustering. Zero
+	// GapRestarts is Settings.Restarts of each reference clustering (and of
+	// the clustering of the data sample, when the data is sampled). Zero
 	// means DefaultGapRestarts (2); negative is invalid.
 	GapRestarts int
+	// GapTolerance is Settings.Tolerance of the same clusterings: they stop
+	// when a pass lowers the cost by at most this share. Zero means
+	// DefaultGapTolerance (1e-4), which changes log W_k by less than 1e-4,
+	// far below the spread s_k the gap rule compares with, while clusterings
+	// of structureless reference data, which creep towards a fixed point
+	// for many passes, stop in about a third of the passes (measured);
+	// negative means iterate to a fixed point; 1 and above are invalid.
+	GapTolerance float64
 	// SkipStability turns the stability resamples off. Every k is then
 	// admissible in the recommendation.
 	SkipStability bool
-	// Stability tunes the resamples (see MeasureStability); the zero value
+	// Stability tunes the resamples (see [MeasureStability]); the zero value
 	// means the defaults.
 	Stability StabilityOptions
+	// Progress, if not nil, is called as the sweep's jobs finish (see
+	// [Progress]). Calls are serialised: never two at once, and Overall
+	// never decreases from one call to the next. Jobs of different ks run
+	// concurrently, so reports of different ks interleave, but for each k
+	// the order is fixed: its clustering is reported (Done = 1) before any
+	// other stage of that k, the indices and stability of k follow in any
+	// interleaving, each stage's Done grows to 1, and the gap stage of every
+	// k comes after all other stages of all ks. There is at least one report
+	// per swept k and stage that runs (indices and stability run for k ≥ 2).
+	// No call is made after ctx is done. Progress must not call Sweep.
+	Progress func(Progress)
 }
 
 func (o *Options) resolved() (Options, error) {
@@ -88,11 +129,14 @@ func (o *Options) resolved() (Options, error) {
 	case r.SilhouetteSamples < 2:
 		return r, fmt.Errorf("%w: SilhouetteSamples = %d, want at least 2", kmeans.ErrSettings, r.SilhouetteSamples)
 	}
+	if r.SampleRows == 0 {
+		r.SampleRows = DefaultSampleRows
+	}
 	if r.DunnRows == 0 {
 		r.DunnRows = DefaultDunnRows
 	}
-	if !(r.KneeSensitivity >= 0) || math.IsInf(r.KneeSensitivity, 1) {
-		return r, fmt.Errorf("%w: KneeSensitivity = %v", kmeans.ErrSettings, r.KneeSensitivity)
+	if !(r.KneeFlatSteps >= 0) || math.IsInf(r.KneeFlatSteps, 1) {
+		return r, fmt.Errorf("%w: KneeFlatSteps = %v", kmeans.ErrSettings, r.KneeFlatSteps)
 	}
 	switch {
 	case r.GapReferences == 0:
@@ -109,6 +153,14 @@ func (o *Options) resolved() (Options, error) {
 	case r.GapRestarts < 0:
 		return r, fmt.Errorf("%w: GapRestarts = %d", kmeans.ErrSettings, r.GapRestarts)
 	}
+	switch {
+	case math.IsNaN(r.GapTolerance) || r.GapTolerance >= 1:
+		return r, fmt.Errorf("%w: GapTolerance = %v, want < 1", kmeans.ErrSettings, r.GapTolerance)
+	case r.GapTolerance == 0:
+		r.GapTolerance = DefaultGapTolerance
+	case r.GapTolerance < 0:
+		r.GapTolerance = 0
+	}
 	st, err := r.Stability.resolved()
 	if err != nil {
 		return r, err
@@ -117,7 +169,7 @@ func (o *Options) resolved() (Options, error) {
 	return r, nil
 }
 
-// Point is the evidence Sweep gathered for one k. Every score is
+// Point is the evidence [Sweep] gathered for one k. Every score is
 // measured in the clustering (scaled) space. A value that is undefined for
 // this k (the internal indices at k = 1) or was not computed (Dunn above
 // Options.DunnRows, Gap when skipped) is NaN.
@@ -137,7 +189,8 @@ type Point struct {
 	DaviesBouldin float64
 	// CalinskiHarabasz is the Caliński–Harabasz ratio (higher is better).
 	CalinskiHarabasz float64
-	// Dunn is Dunn's index (higher is better).
+	// Dunn is Dunn's index (higher is better), on the sample when the data
+	// is sampled (Result.SampleRows).
 	Dunn float64
 	// Gap and GapSE are Gap(K) and s_K of the gap statistic.
 	Gap, GapSE float64
@@ -146,100 +199,18 @@ type Point struct {
 	Stability *Stability
 }
 
-// Criterion names one line of evidence in a Recommendation.
-type Criterion int
-
-const (
-	// BySilhouette votes for the highest mean silhouette.
-	BySilhouette Criterion = iota
-	// ByDaviesBouldin votes for the lowest Davies–Bouldin index.
-	ByDaviesBouldin
-	// ByCalinskiHarabasz votes for the highest Caliński–Harabasz ratio.
-	ByCalinskiHarabasz
-	// ByDunn votes for the highest Dunn index.
-	ByDunn
-	// ByKnee votes for the knee (elbow) of the cost curve found by
-	// Kneedle.
-	ByKnee
-	// ByGap votes for the k of the gap rule of Tibshirani et al.
-	ByGap
-	numCriteria
-)
-
-// String returns the criterion's name.
-func (c Criterion) String() string {
-	switch c {
-	case BySilhouette:
-		return "silhouette"
-	case ByDaviesBouldin:
-		return "Davies–Bouldin"
-	case ByCalinskiHarabasz:
-		return "Calinski–Harabasz"
-	case ByDunn:
-		return "Dunn"
-	case ByKnee:
-		return "knee"
-	case ByGap:
-		return "gap"
-	}
-	return fmt.Sprintf("Criterion(%d)", int(c))
-}
-
-// Vote is one criterion's preferred k and why.
-type Vote struct {
-	By Criterion
-	// K is the preferred number of clusters, 0 if the criterion abstains
-	// (not computed, undefined on every k, or its rule was not met).
-	K int
-	// Reason explains the vote or the abstention.
-	Reason string
-}
-
-// Recommendation is Sweep's suggested number of clusters with the
-// evidence behind it. It is a heuristic: the indices answer different
-// questions, and when they disagree the data rarely has one right k.
-type Recommendation struct {
-	// K is the recommended number of clusters.
-	K int
-	// Votes holds one vote per Criterion, in Criterion order.
-	Votes []Vote
-	// Support is the number of votes for K and Cast the number of votes
-	// cast (criteria that did not abstain).
-	Support, Cast int
-	// Admissible lists the swept ks whose clusterings passed the stability
-	// check (every cluster's mean Jaccard at least 0.6), in increasing
-	// order; every k when stability was skipped.
-	Admissible []int
-	// Reasons explains the choice, one sentence per entry.
-	Reasons []string
-}
-
-// String returns the recommendation, each vote and the reasons, one per
-// line.
-func (r *Recommendation) String() string {
-	var b strings.Builder
-	fmt.Fprintf(&b, "recommended k = %d (%d of %d votes)\n", r.K, r.Support, r.Cast)
-	for _, v := range r.Votes {
-		if v.K == 0 {
-			fmt.Fprintf(&b, "  %-18s abstains: %s\n", v.By, v.Reason)
-		} else {
-			fmt.Fprintf(&b, "  %-18s k = %-3d %s\n", v.By, v.K, v.Reason)
-		}
-	}
-	for _, s := range r.Reasons {
-		fmt.Fprintf(&b, "  %s\n", s)
-	}
-	return b.String()
-}
-
-// Result is the outcome of Sweep.
+// Result is the outcome of [Sweep].
 type Result struct {
 	// Points holds the evidence for every swept k, in increasing k.
 	Points []Point
+	// Rows is the number of rows of the data, and SampleRows the number
+	// of rows on which Dunn's index, the stability resamples and the gap
+	// statistic were computed (Rows when the data was not sampled).
+	Rows, SampleRows int
 	// Knee is the k at the knee of the cost curve, 0 if Kneedle found none.
 	Knee int
 	// Gap is the gap statistic over the swept ks, nil if skipped or
-	// undefined (the gap vote then says why).
+	// undefined (the gap preference then says why).
 	Gap *validate.GapResult
 	// Recommendation is the suggested k with its evidence.
 	Recommendation Recommendation
@@ -270,62 +241,58 @@ func (r *Result) Recommended() *kmeans.Result {
 // the evidence behind it. ks must be strictly increasing, from 1 up; include
 // k = 1 to let the gap statistic say the data has no cluster structure.
 //
-// Every clustering uses Cluster with s (Restarts, MaxIterations,
-// Tolerance, Workers; Progress is ignored) and method m, seeded with a
-// value derived from s.Seed and k. Up to s.Workers values of k are
-// clustered at once. The result is deterministic for a given s.Seed
-// whatever s.Workers.
+// Every clustering of the data uses [kmeans.Cluster] with s (Restarts,
+// MaxIterations, Tolerance, Workers; Progress is ignored) and method m,
+// seeded with a value derived from s.Seed and k. The work is split into
+// jobs (one clustering per k, its indices, each stability resample) run by
+// s.Workers goroutines, then the gap statistic, whose reference sets are
+// clustered s.Workers at a time. The result is deterministic for a given
+// s.Seed whatever s.Workers: every job draws from its own seed and owns its
+// output. Options.Progress reports the jobs as they finish.
 //
 // All scores are measured in the clustering space: the rows after the
-// learned scaler p.Scaler (as Model.Scaler().Apply gives them). For every
-// k ≥ 2:
+// learned scaler p.Scaler (as Model.Scaler().Apply gives them), computed
+// once ([kmeans.NewSpace]) and shared by all ks. For every k ≥ 2:
 //
-//   - mean silhouette (validate.Silhouette), exact up to
+//   - mean silhouette ([validate.Silhouette]), exact up to
 //     Options.ExactSilhouetteRows rows and above that estimated from
-//     SilhouetteSamples rows with a 95% interval (validate.SampledSilhouette);
-//   - Davies–Bouldin and Caliński–Harabasz (validate.DaviesBouldin,
-//     validate.CalinskiHarabasz);
-//   - Dunn's index (validate.Dunn) up to Options.DunnRows rows;
-//   - stability: Resamples subsamples clustered again (MeasureStability),
+//     SilhouetteSamples rows with a 95% interval ([validate.SampledSilhouette]);
+//   - Davies–Bouldin and Caliński–Harabasz ([validate.DaviesBouldin],
+//     [validate.CalinskiHarabasz]) on all rows;
+//   - Dunn's index ([validate.Dunn]) up to Options.DunnRows rows;
+//   - stability: Resamples subsamples clustered again ([MeasureStability]),
 //     the mean adjusted Rand index between them and the per-cluster Jaccard
 //     stability of Hennig (2007).
 //
-// Over all ks: the knee of the cost curve (validate.Knee, Kneedle) and the
-// gap statistic (validate.Gap; Tibshirani, Walther and Hastie 2001) with
-// GapReferences reference sets, each clustered by Cluster with GapRestarts
-// restarts; the data's own dispersion W_k is the cost of the sweep's
-// clustering.
+// Over all ks: the knee of the cost curve ([validate.Knee], Kneedle) and the
+// gap statistic ([validate.Gap]; Tibshirani, Walther and Hastie 2001) with
+// GapReferences reference sets, each drawn once and clustered for every k
+// by [kmeans.Cluster] with GapRestarts restarts and GapTolerance. The data's
+// own dispersion W_k is the cost of the sweep's clustering; when the data
+// is sampled, it is the cost of clustering the sample like the references.
 //
-// # Recommendation rule
+// When the data has more than Options.SampleRows rows, Dunn's index, the
+// stability resamples (drawn from the sample, compared with the sweep's
+// clustering restricted to it) and the gap statistic use one seeded sample
+// of SampleRows rows; see Options.SampleRows for the reasons and
+// Result.SampleRows for the size used.
 //
-// A documented heuristic of this package, not a theorem:
+// # Recommendation
 //
-//  1. Each criterion votes for one swept k: the highest mean silhouette,
-//     the lowest Davies–Bouldin, the highest Caliński–Harabasz, the highest
-//     Dunn (when computed), the knee of the cost curve, and the gap rule
-//     (the smallest k with Gap(k) ≥ Gap(k+1) − s_{k+1}; it abstains when no
-//     swept k meets it). Ties within a criterion go to the smaller k. The
-//     internal indices are undefined at k = 1, so only the gap rule can
-//     vote for it.
-//  2. A k is admissible when no cluster of its clustering is unstable:
-//     every cluster's mean Jaccard over the resamples is at least 0.6 (the
-//     reading of Hennig 2007, common practice). k = 1 is always
-//     admissible, and so is every k when stability is skipped.
-//  3. The recommended k is the admissible k with the most votes, ties going
-//     to the smaller k. If no admissible k has a vote, it is the k with the
-//     most votes overall (ties to the smaller k) and the reasons say it is
-//     unstable; if no criterion votes at all, it is the smallest swept k.
-//
-// Structureless data tends to split the votes, and ties then go to the
-// smaller k; a clear structure gets most votes on one stable k.
+// Every criterion scores every swept k on [0, 1], 1 being its best k; the
+// combined score of a k is the mean of the scores defined there, and the
+// recommendation is the admissible k (stability check passed) with the
+// best combined score, with k = 1 decided by the gap rule. The rule, the
+// mapping of each criterion and how the rule behaves on reference data
+// sets are in the package documentation.
 //
 // # Cost
 //
-// Per k: the restarts of Cluster, Resamples·Restarts clusterings of
-// Fraction of the rows, O(n²d) for an exact silhouette and Dunn (or O(samples·n·d)
-// sampled), plus GapReferences·GapRestarts clusterings of n rows per k for
-// the gap statistic. Turn off the gap (SkipGap) or stability
-// (SkipStability) for large sweeps.
+// Per k: the restarts of Cluster on all n rows; Resamples·Restarts
+// clusterings of Fraction of min(n, SampleRows) rows; O(samples·n·d) for
+// the silhouette above ExactSilhouetteRows (O(n²d) below); O(m²d) for Dunn
+// on m = min(n, SampleRows) rows; and GapReferences·GapRestarts clusterings
+// of m rows for the gap statistic.
 //
 // # Errors
 //
@@ -335,7 +302,8 @@ func (r *Result) Recommended() *kmeans.Result {
 // weighted data with Cluster and score it yourself); ErrMetric for a metric
 // other than Euclidean (the indices and the gap statistic are Euclidean);
 // ErrSettings for invalid settings or options; the errors of Cluster; and
-// ctx.Err() if ctx ends. p.Data is never modified.
+// ctx.Err() if ctx ends, promptly: no job starts after that. p.Data is
+// never modified.
 func Sweep(ctx context.Context, p kmeans.Problem, ks []int, s *kmeans.Settings, m kmeans.Method, opts *Options) (*Result, error) {
 	o, err := opts.resolved()
 	if err != nil {
@@ -367,111 +335,227 @@ func Sweep(ctx context.Context, p kmeans.Problem, ks []int, s *kmeans.Settings, 
 	if err != nil {
 		return nil, err
 	}
-	Z := mat.NewDense(sp.N, sp.D, sp.X) // read-only view of the clustering space
-
-	points := make([]Point, len(ks))
-	errs := make([]error, len(ks))
-	conc := min(set.Workers, len(ks))
-	inner := set
-	inner.Workers = max(1, set.Workers/conc)
-	runCtx, cancel := context.WithCancel(ctx)
-	defer cancel()
-	var wg sync.WaitGroup
-	sem := make(chan struct{}, conc)
-	for i, k := range ks {
-		sem <- struct{}{}
-		wg.Go(func() {
-			defer func() { <-sem }()
-			points[i], errs[i] = sweepOne(runCtx, p, Z, k, inner, m, &o)
-			if errs[i] != nil {
-				cancel()
-			}
-		})
-	}
-	wg.Wait()
+	sw := &sweep{p: p, ks: ks, set: set, m: m, o: &o}
+	sw.Z = mat.NewDense(sp.N, sp.D, sp.X) // read-only view of the clustering space
+	sw.sampleRows(sp.N)
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}
-	for _, err := range errs {
-		if err != nil && !errors.Is(err, context.Canceled) {
-			return nil, err
-		}
+	res, err := sw.run(ctx)
+	if cerr := ctx.Err(); cerr != nil {
+		return nil, cerr
 	}
-
-	res := &Result{Points: points}
-	kneeVote := res.knee(o.KneeSensitivity)
-	gapVote, err := res.gap(ctx, p, Z, set, m, &o)
 	if err != nil {
 		return nil, err
 	}
-	res.recommend(kneeVote, gapVote, !o.SkipStability)
 	return res, nil
 }
 
-// sweepOne clusters and scores one k.
-func sweepOne(ctx context.Context, p kmeans.Problem, Z *mat.Dense, k int, set kmeans.Settings, m kmeans.Method, o *Options) (Point, error) {
-	nan := math.NaN()
-	pt := Point{K: k, DaviesBouldin: nan, CalinskiHarabasz: nan, Dunn: nan, Gap: nan, GapSE: nan}
-	pt.Silhouette = validate.Estimate{Mean: nan, StdErr: nan, Lo: nan, Hi: nan}
-	q := p
-	q.K = k
-	set.Seed = sweepMix(set.Seed, sweepKStream, uint64(k))
-	res, err := kmeans.Cluster(ctx, q, &set, m)
+// sweep is the state of one call of Sweep.
+type sweep struct {
+	p   kmeans.Problem
+	ks  []int
+	set kmeans.Settings
+	m   kmeans.Method
+	o   *Options
+	Z   *mat.Dense // the clustering space, n×d
+	// sample lists the rows of the sample in ascending order, nil when the
+	// data is not sampled; Zs and Xs are those rows of Z and of p.Data.
+	sample []int
+	Zs, Xs *mat.Dense
+	points []Point
+	draws  [][]redraw // stability resamples per point
+	left   []int      // stability resamples not yet finished per point
+	rep    *reporter
+}
+
+// sampleRows draws the sample of the expensive criteria, if n exceeds
+// Options.SampleRows.
+func (sw *sweep) sampleRows(n int) {
+	sw.Zs = sw.Z
+	if sw.o.SampleRows < 0 || n <= sw.o.SampleRows {
+		return
+	}
+	sw.sample = subsample(n, sw.o.SampleRows, sweepMix(sw.set.Seed, sampleStream, 0))
+	sw.Zs = selectRows(sw.Z, sw.sample)
+	if !sw.o.SkipStability {
+		sw.Xs = selectRows(sw.p.Data, sw.sample)
+	}
+}
+
+// onSample returns a's entries for the rows of the sample (a itself when
+// the data is not sampled).
+func (sw *sweep) onSample(a []int) []int {
+	if sw.sample == nil {
+		return a
+	}
+	out := make([]int, len(sw.sample))
+	for t, i := range sw.sample {
+		out[t] = a[i]
+	}
+	return out
+}
+
+// run does the work of Sweep after the checks.
+func (sw *sweep) run(ctx context.Context) (*Result, error) {
+	n, _ := sw.Z.Dims()
+	ns, _ := sw.Zs.Dims()
+	sw.points = make([]Point, len(sw.ks))
+	sw.draws = make([][]redraw, len(sw.ks))
+	sw.left = make([]int, len(sw.ks))
+	sw.rep = newReporter(ctx, sw.o.Progress)
+	for i, k := range sw.ks {
+		sw.rep.plan(k, StageClustering, 1)
+		if k >= 2 {
+			sw.rep.plan(k, StageIndices, 1)
+			if !sw.o.SkipStability {
+				sw.rep.plan(k, StageStability, sw.o.Stability.Resamples)
+			}
+		}
+		if !sw.o.SkipGap {
+			sw.rep.plan(k, StageGap, sw.o.GapReferences+1)
+		}
+		nan := math.NaN()
+		sw.points[i] = Point{K: k, DaviesBouldin: nan, CalinskiHarabasz: nan, Dunn: nan, Gap: nan, GapSE: nan,
+			Silhouette: validate.Estimate{Mean: nan, StdErr: nan, Lo: nan, Hi: nan}}
+	}
+
+	inner := sw.set
+	inner.Workers = max(1, sw.set.Workers/len(sw.ks))
+	pl := newPool(ctx, sw.rep.begin)
+	// The largest k first: its clustering is the longest job.
+	for i := len(sw.ks) - 1; i >= 0; i-- {
+		pl.add(sw.ks[i], StageClustering, func(ctx context.Context) error { return sw.cluster(ctx, pl, i, inner) })
+	}
+	pl.start(sw.set.Workers)
+	if err := pl.wait(); err != nil {
+		return nil, err
+	}
+
+	res := &Result{Points: sw.points, Rows: n, SampleRows: ns}
+	knee := res.knee(sw.o.KneeFlatSteps)
+	gap, err := sw.gap(ctx, res)
 	if err != nil {
-		return pt, fmt.Errorf("sweep k = %d: %w", k, err)
+		return nil, err
 	}
+	res.recommend(knee, gap, !sw.o.SkipStability)
+	return res, nil
+}
+
+// seedOf is the seed of the clustering of the data with k clusters and of
+// everything derived from it (indices, resamples).
+func (sw *sweep) seedOf(k int) uint64 { return sweepMix(sw.set.Seed, sweepKStream, uint64(k)) }
+
+// cluster clusters the data with k = sw.ks[i] clusters and queues the
+// jobs that score the result.
+func (sw *sweep) cluster(ctx context.Context, pl *pool, i int, set kmeans.Settings) error {
+	k := sw.ks[i]
+	q := sw.p
+	q.K = k
+	set.Seed = sw.seedOf(k)
+	res, err := kmeans.Cluster(ctx, q, &set, sw.m)
+	if err != nil {
+		return fmt.Errorf("sweep k = %d: %w", k, err)
+	}
+	pt := &sw.points[i]
 	pt.Result, pt.Cost = res, res.Cost
+	sw.rep.finish(k, StageClustering)
 	if k < 2 {
-		return pt, nil
+		return nil
 	}
-	a := res.Assignments
-	n, _ := Z.Dims()
-	if n <= o.ExactSilhouetteRows {
-		v, err := scoreOrNaN(validate.Silhouette(Z, a, distance.Euclidean{}))
+	pl.add(k, StageIndices, func(context.Context) error { return sw.indices(i) })
+	if sw.o.SkipStability {
+		return nil
+	}
+	sub := sw.p
+	sub.K = k
+	if sw.Xs != nil {
+		sub.Data = sw.Xs
+	}
+	ref := sw.onSample(res.Assignments)
+	opt := sw.o.Stability
+	size, err := resampleSize(sub, opt)
+	if err != nil {
+		if sw.sample != nil {
+			err = fmt.Errorf("%w (or SampleRows)", err)
+		}
+		return fmt.Errorf("sweep k = %d: %w", k, err)
+	}
+	rs := sw.set
+	rs.Seed, rs.Workers = sw.seedOf(k), 1
+	sw.draws[i] = make([]redraw, opt.Resamples)
+	sw.left[i] = opt.Resamples
+	for b := range opt.Resamples {
+		pl.add(k, StageStability, func(ctx context.Context) error {
+			d, err := resample(ctx, sub, ref, rs, sw.m, opt, size, b)
+			if err != nil {
+				return fmt.Errorf("sweep k = %d: %w", k, err)
+			}
+			sw.draws[i][b] = d
+			if sw.doneResample(i) {
+				st, err := combineRedraws(sub, opt, sw.draws[i])
+				if err != nil {
+					return fmt.Errorf("sweep k = %d: %w", k, err)
+				}
+				sw.points[i].Stability = st
+				sw.draws[i] = nil
+			}
+			sw.rep.finish(k, StageStability)
+			return nil
+		})
+	}
+	return nil
+}
+
+// doneResample counts one finished resample of point i and reports whether
+// it was the last.
+func (sw *sweep) doneResample(i int) bool {
+	sw.rep.mu.Lock()
+	defer sw.rep.mu.Unlock()
+	sw.left[i]--
+	return sw.left[i] == 0
+}
+
+// indices computes the internal indices of point i.
+func (sw *sweep) indices(i int) error {
+	pt := &sw.points[i]
+	k := pt.K
+	a := pt.Result.Assignments
+	n, _ := sw.Z.Dims()
+	if n <= sw.o.ExactSilhouetteRows {
+		v, err := scoreOrNaN(validate.Silhouette(sw.Z, a, distance.Euclidean{}))
 		if err != nil {
-			return pt, fmt.Errorf("sweep k = %d: %w", k, err)
+			return fmt.Errorf("sweep k = %d: %w", k, err)
 		}
 		pt.Silhouette = validate.Estimate{Mean: v, Lo: v, Hi: v, Samples: n}
 	} else {
-		rnd := rand.New(rand.NewPCG(set.Seed, silhouetteStream))
-		e, err := validate.SampledSilhouette(Z, a, distance.Euclidean{}, o.SilhouetteSamples, rnd)
+		rnd := rand.New(rand.NewPCG(sw.seedOf(k), silhouetteStream))
+		e, err := validate.SampledSilhouette(sw.Z, a, distance.Euclidean{}, sw.o.SilhouetteSamples, rnd)
 		switch {
 		case err == nil:
 			pt.Silhouette = e
 		case !errors.Is(err, validate.ErrClusters):
-			return pt, fmt.Errorf("sweep k = %d: %w", k, err)
+			return fmt.Errorf("sweep k = %d: %w", k, err)
 		}
 	}
-	for _, ix := range []struct {
-		dst *float64
-		fn  func(mat.Matrix, []int) (float64, error)
-		on  bool
-	}{
-		{&pt.DaviesBouldin, validate.DaviesBouldin, true},
-		{&pt.CalinskiHarabasz, validate.CalinskiHarabasz, true},
-		{&pt.Dunn, validate.Dunn, o.DunnRows >= n},
-	} {
-		if !ix.on {
-			continue
-		}
-		v, err := scoreOrNaN(ix.fn(Z, a))
-		if err != nil {
-			return pt, fmt.Errorf("sweep k = %d: %w", k, err)
-		}
-		*ix.dst = v
+	var err error
+	if pt.DaviesBouldin, err = scoreOrNaN(validate.DaviesBouldin(sw.Z, a)); err != nil {
+		return fmt.Errorf("sweep k = %d: %w", k, err)
 	}
-	if !o.SkipStability {
-		st, err := stabilityOf(ctx, q, a, set, m, o.Stability)
-		if err != nil {
-			return pt, fmt.Errorf("sweep k = %d: %w", k, err)
-		}
-		pt.Stability = st
+	if pt.CalinskiHarabasz, err = scoreOrNaN(validate.CalinskiHarabasz(sw.Z, a)); err != nil {
+		return fmt.Errorf("sweep k = %d: %w", k, err)
 	}
-	return pt, nil
+	if ns, _ := sw.Zs.Dims(); ns <= sw.o.DunnRows {
+		if pt.Dunn, err = scoreOrNaN(validate.Dunn(sw.Zs, sw.onSample(a))); err != nil {
+			return fmt.Errorf("sweep k = %d: %w", k, err)
+		}
+	}
+	sw.rep.finish(k, StageIndices)
+	return nil
 }
 
 // scoreOrNaN passes an index value on, turns an index that is undefined
-// for the clustering (validate.ErrClusters) into NaN, and returns any other
+// for the clustering ([validate.ErrClusters]) into NaN, and returns any other
 // error.
 func scoreOrNaN(v float64, err error) (float64, error) {
 	switch {
@@ -483,241 +567,97 @@ func scoreOrNaN(v float64, err error) (float64, error) {
 	return math.NaN(), err
 }
 
-// knee finds the knee of the cost curve and returns its vote.
-func (r *Result) knee(sensitivity float64) Vote {
-	v := Vote{By: ByKnee}
+// knee finds the knee of the cost curve and scores every k by its bend.
+// The curve is the running minimum of the cost over the swept ks: the best
+// cost with at most k clusters cannot rise with k, and a rise is a local
+// optimum of a restart, not part of the curve.
+func (r *Result) knee(flatSteps float64) curveEvidence {
+	ev := curveEvidence{pref: Preference{By: ByKnee}}
 	x := make([]float64, len(r.Points))
 	y := make([]float64, len(r.Points))
 	for i, p := range r.Points {
 		x[i], y[i] = float64(p.K), p.Cost
+		if i > 0 {
+			y[i] = min(y[i], y[i-1])
+		}
 	}
-	i, err := validate.Knee(x, y, &validate.KneeOptions{Sensitivity: sensitivity})
+	i, err := validate.Knee(x, y, &validate.KneeOptions{FlatSteps: flatSteps})
 	if err != nil {
-		v.Reason = fmt.Sprintf("no knee in the cost curve (%v)", err)
-		return v
+		ev.pref.Note = fmt.Sprintf("no knee in the cost curve (%v)", err)
+		return ev
+	}
+	bend, err := validate.KneeCurve(x, y)
+	if err != nil { // unreachable: Knee accepted the curve
+		ev.pref.Note = fmt.Sprintf("no knee in the cost curve (%v)", err)
+		return ev
 	}
 	r.Knee = r.Points[i].K
-	v.K = r.Knee
-	v.Reason = fmt.Sprintf("the cost curve bends most at k = %d (Kneedle): cost %.4g, then %.4g at k = %d", v.K, y[i], y[i+1], r.Points[i+1].K)
-	return v
+	ev.pref.K = r.Knee
+	ev.scores = kneeScores(bend, i)
+	ev.pref.Note = fmt.Sprintf("knee of the cost curve (Kneedle), %.2f below its chord: cost %.4g, then %.4g at k = %d",
+		bend[i], y[i], y[i+1], r.Points[i+1].K)
+	return ev
 }
 
-// gap computes the gap statistic and returns its vote.
-func (r *Result) gap(ctx context.Context, p kmeans.Problem, Z *mat.Dense, set kmeans.Settings, m kmeans.Method, o *Options) (Vote, error) {
-	v := Vote{By: ByGap}
+// gap computes the gap statistic on the data (or its sample) and scores
+// every k by it.
+func (sw *sweep) gap(ctx context.Context, r *Result) (curveEvidence, error) {
+	ev := curveEvidence{pref: Preference{By: ByGap}}
+	v := &ev.pref
+	o := sw.o
 	if o.SkipGap {
-		v.Reason = "gap statistic skipped"
-		return v, nil
+		v.Note = "gap statistic skipped"
+		return ev, nil
 	}
-	ks := make([]int, len(r.Points))
 	cost := make(map[int]float64, len(r.Points))
-	for i, pt := range r.Points {
-		ks[i] = pt.K
+	for _, pt := range r.Points {
 		cost[pt.K] = pt.Cost
 	}
 	cluster := func(ctx context.Context, X *mat.Dense, k int, seed uint64) (float64, error) {
-		if X == Z {
+		if err := sw.rep.begin(ctx, k, StageGap); err != nil {
+			return 0, err
+		}
+		defer sw.rep.finish(k, StageGap)
+		if X == sw.Z {
 			return cost[k], nil
 		}
-		res, err := kmeans.Cluster(ctx, kmeans.Problem{Data: X, K: k, Seeder: p.Seeder}, &kmeans.Settings{
-			Restarts: o.GapRestarts, MaxIterations: set.MaxIterations, Tolerance: set.Tolerance, Seed: seed, Workers: 1,
-		}, m)
+		res, err := kmeans.Cluster(ctx, kmeans.Problem{Data: X, K: k, Seeder: sw.p.Seeder}, &kmeans.Settings{
+			Restarts: o.GapRestarts, MaxIterations: sw.set.MaxIterations, Tolerance: o.GapTolerance, Seed: seed, Workers: 1,
+		}, sw.m)
 		if err != nil {
 			return 0, err
 		}
 		return res.Cost, nil
 	}
-	g, err := validate.Gap(ctx, Z, ks, cluster, &validate.GapOptions{
-		B: o.GapReferences, Reference: o.GapReference, Seed: sweepMix(set.Seed, gapStream, 0), Workers: set.Workers,
+	g, err := validate.Gap(ctx, sw.Zs, sw.ks, cluster, &validate.GapOptions{
+		B: o.GapReferences, Reference: o.GapReference, Seed: sweepMix(sw.set.Seed, gapStream, 0), Workers: sw.set.Workers,
 	})
 	if err != nil {
 		if cerr := ctx.Err(); cerr != nil {
-			return v, cerr
+			return ev, cerr
 		}
-		v.Reason = fmt.Sprintf("gap statistic undefined: %v", err)
-		return v, nil
+		v.Note = fmt.Sprintf("gap statistic undefined: %v", err)
+		return ev, nil
 	}
 	r.Gap = g
 	for i := range r.Points {
 		r.Points[i].Gap, r.Points[i].GapSE = g.Gap[i], g.SK[i]
 	}
+	on := ""
+	if sw.sample != nil {
+		on = fmt.Sprintf(", on a sample of %d rows", len(sw.sample))
+	}
 	if !g.Found {
-		v.Reason = fmt.Sprintf("no swept k has Gap(k) ≥ Gap(k+1) − s_{k+1} (%s reference, B = %d): extend the range", o.GapReference, o.GapReferences)
-		return v, nil
+		v.Note = fmt.Sprintf("no swept k has Gap(k) ≥ Gap(k+1) − s_{k+1} (%s reference, B = %d%s): extend the range", o.GapReference, o.GapReferences, on)
+		return ev, nil
 	}
 	i := 0
-	for ks[i] != g.Best {
+	for sw.ks[i] != g.Best {
 		i++
 	}
 	v.K = g.Best
-	v.Reason = fmt.Sprintf("smallest k with Gap(k) ≥ Gap(k+1) − s_{k+1}: %.3f ≥ %.3f − %.3f at k+1 = %d (%s reference, B = %d)",
-		g.Gap[i], g.Gap[i+1], g.SK[i+1], ks[i+1], o.GapReference, o.GapReferences)
-	return v, nil
-}
-
-// recommend fills r.Recommendation from the index votes, the knee and gap
-// votes and the stability of every k (see Sweep).
-func (r *Result) recommend(knee, gap Vote, stability bool) {
-	rec := &r.Recommendation
-	rec.Votes = []Vote{
-		r.argVote(BySilhouette, func(p *Point) float64 { return p.Silhouette.Mean }, true),
-		r.argVote(ByDaviesBouldin, func(p *Point) float64 { return p.DaviesBouldin }, false),
-		r.argVote(ByCalinskiHarabasz, func(p *Point) float64 { return p.CalinskiHarabasz }, true),
-		r.argVote(ByDunn, func(p *Point) float64 { return p.Dunn }, true),
-		knee,
-		gap,
-	}
-	admissible := map[int]bool{}
-	for _, p := range r.Points {
-		if p.Stability == nil || p.Stability.Verdict() != Unstable {
-			admissible[p.K] = true
-			rec.Admissible = append(rec.Admissible, p.K)
-		}
-	}
-	count := map[int]int{}
-	for _, v := range rec.Votes {
-		if v.K != 0 {
-			count[v.K]++
-			rec.Cast++
-		}
-	}
-	pick := func(only map[int]bool) int {
-		best := 0
-		for _, p := range r.Points {
-			if (only == nil || only[p.K]) && count[p.K] > count[best] {
-				best = p.K
-			}
-		}
-		return best
-	}
-	rec.K = pick(admissible)
-	switch {
-	case rec.K != 0:
-		rec.Reasons = append(rec.Reasons, fmt.Sprintf("k = %d has the most votes among the admissible ks %v (ties go to the smaller k)", rec.K, rec.Admissible))
-	case rec.Cast > 0:
-		rec.K = pick(nil)
-		rec.Reasons = append(rec.Reasons, fmt.Sprintf("no admissible k got a vote; k = %d has the most votes overall but has an unstable cluster: treat it with care", rec.K))
-	default:
-		rec.K = r.Points[0].K
-		rec.Reasons = append(rec.Reasons, fmt.Sprintf("no criterion could vote; k = %d is the smallest swept k", rec.K))
-	}
-	rec.Support = count[rec.K]
-	if p := r.Point(rec.K); p != nil && p.Stability != nil {
-		st := p.Stability
-		rec.Reasons = append(rec.Reasons, fmt.Sprintf("stability at k = %d: mean ARI %.3f between %d resamples on %.0f%% subsamples; weakest cluster's mean Jaccard %.3f (%s; Hennig 2007: below 0.6 unstable, 0.75 and above stable)",
-			rec.K, st.MeanARI, st.Resamples, 100*st.Fraction, st.MinJaccard(), st.Verdict()))
-	} else if !stability {
-		rec.Reasons = append(rec.Reasons, "stability not measured: every k counted as admissible")
-	}
-	rec.Reasons = append(rec.Reasons, "this is a heuristic: read the votes, and prefer the k that serves the purpose when they disagree")
-}
-
-// argVote returns the vote of an index that is maximised (or minimised)
-// over the swept ks, ignoring NaN; ties go to the smaller k.
-func (r *Result) argVote(by Criterion, score func(*Point) float64, higher bool) Vote {
-	v := Vote{By: by}
-	best := math.NaN()
-	var bp *Point
-	for i := range r.Points {
-		s := score(&r.Points[i])
-		if math.IsNaN(s) {
-			continue
-		}
-		if bp == nil || (higher && s > best) || (!higher && s < best) {
-			best, bp = s, &r.Points[i]
-		}
-	}
-	if bp == nil {
-		v.Reason = "not computed for any swept k"
-		if by == ByDunn {
-			v.Reason = "not computed (more rows than Options.DunnRows, or k = 1 only)"
-		}
-		return v
-	}
-	v.K = bp.K
-	word := "highest"
-	if !higher {
-		word = "lowest"
-	}
-	v.Reason = fmt.Sprintf("%s %s: %.4g", word, by, best)
-	if by == BySilhouette {
-		if e := bp.Silhouette; e.Hi > e.Lo {
-			v.Reason += fmt.Sprintf(" (estimated from %d rows, 95%% interval %.3f–%.3f)", e.Samples, e.Lo, e.Hi)
-		} else {
-			v.Reason += " (exact)"
-		}
-	}
-	return v
-}
-
-// WriteTo writes the sweep as a table, one line per k (scores, stability
-// and the criteria that voted for it, the recommended k marked with *),
-// followed by the recommendation. It returns the number of bytes written.
-func (r *Result) WriteTo(w io.Writer) (int64, error) {
-	cw := &tallyWriter{w: w}
-	tw := tabwriter.NewWriter(cw, 0, 0, 2, ' ', tabwriter.AlignRight)
-	fmt.Fprintln(tw, " \tk\tcost\tsilhouette\tDavies–Bouldin\tCalinski–Harabasz\tDunn\tgap ± s_k\tmean ARI\tmin Jaccard\treading\t  votes")
-	for _, p := range r.Points {
-		mark := " "
-		if p.K == r.Recommendation.K {
-			mark = "*"
-		}
-		sil := fmtNum(p.Silhouette.Mean, 3)
-		if e := p.Silhouette; e.Hi > e.Lo {
-			sil = fmt.Sprintf("%.3f ±%.3f", e.Mean, (e.Hi-e.Lo)/2)
-		}
-		gap := "–"
-		if !math.IsNaN(p.Gap) {
-			gap = fmt.Sprintf("%.3f ± %.3f", p.Gap, p.GapSE)
-		}
-		ari, jac, reading := "–", "–", "–"
-		if st := p.Stability; st != nil {
-			ari = fmt.Sprintf("%.3f", st.MeanARI)
-			jac = fmt.Sprintf("%.3f", st.MinJaccard())
-			reading = st.Verdict().String()
-		}
-		var votes []string
-		for _, v := range r.Recommendation.Votes {
-			if v.K == p.K {
-				votes = append(votes, v.By.String())
-			}
-		}
-		voted := ""
-		if len(votes) > 0 {
-			voted = "  " + strings.Join(votes, ", ")
-		}
-		fmt.Fprintf(tw, "%s\t%d\t%.5g\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\n", mark, p.K, p.Cost, sil,
-			fmtNum(p.DaviesBouldin, 3), fmtNum(p.CalinskiHarabasz, 1), fmtNum(p.Dunn, 3), gap, ari, jac, reading, voted)
-	}
-	if err := tw.Flush(); err != nil {
-		return cw.n, err
-	}
-	_, err := io.WriteString(cw, "\n"+r.Recommendation.String())
-	return cw.n, err
-}
-
-// fmtNum formats v with the given decimals, or "–" for NaN.
-func fmtNum(v float64, decimals int) string {
-	if math.IsNaN(v) {
-		return "–"
-	}
-	return fmt.Sprintf("%.*f", decimals, v)
-}
-
-// tallyWriter counts the bytes written through it and keeps the first
-// error.
-type tallyWriter struct {
-	w   io.Writer
-	n   int64
-	err error
-}
-
-func (c *tallyWriter) Write(p []byte) (int, error) {
-	if c.err != nil {
-		return 0, c.err
-	}
-	n, err := c.w.Write(p)
-	c.n += int64(n)
-	c.err = err
-	return n, err
+	ev.scores = gapScores(g.Gap, i)
+	v.Note = fmt.Sprintf("smallest k with Gap(k) ≥ Gap(k+1) − s_{k+1}: %.3f ≥ %.3f − %.3f at k+1 = %d (%s reference, B = %d%s)",
+		g.Gap[i], g.Gap[i+1], g.SK[i+1], sw.ks[i+1], o.GapReference, o.GapReferences, on)
+	return ev, nil
 }

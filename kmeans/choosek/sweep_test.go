@@ -60,7 +60,11 @@ func TestSweepBadInput(t *testing.T) {
 		{"one gap reference", kmeans.Problem{Data: x}, []int{2}, nil, &Options{GapReferences: 1}, kmeans.ErrSettings},
 		{"negative gap restarts", kmeans.Problem{Data: x}, []int{2}, nil, &Options{GapRestarts: -2}, kmeans.ErrSettings},
 		{"unknown reference", kmeans.Problem{Data: x}, []int{2}, nil, &Options{GapReference: 7}, kmeans.ErrSettings},
-		{"NaN knee sensitivity", kmeans.Problem{Data: x}, []int{2}, nil, &Options{KneeSensitivity: math.NaN()}, kmeans.ErrSettings},
+		{"NaN gap tolerance", kmeans.Problem{Data: x}, []int{2}, nil, &Options{GapTolerance: math.NaN()}, kmeans.ErrSettings},
+		{"gap tolerance 1", kmeans.Problem{Data: x}, []int{2}, nil, &Options{GapTolerance: 1}, kmeans.ErrSettings},
+		{"sample smaller than K", kmeans.Problem{Data: x}, []int{2, 3}, nil, &Options{SkipGap: true, SampleRows: 3}, kmeans.ErrK},
+		{"NaN knee flat steps", kmeans.Problem{Data: x}, []int{2}, nil, &Options{KneeFlatSteps: math.NaN()}, kmeans.ErrSettings},
+		{"negative knee flat steps", kmeans.Problem{Data: x}, []int{2}, nil, &Options{KneeFlatSteps: -1}, kmeans.ErrSettings},
 		{"one resample", kmeans.Problem{Data: x}, []int{2}, nil, &Options{Stability: StabilityOptions{Resamples: 1}}, kmeans.ErrSettings},
 		{"fraction above 1", kmeans.Problem{Data: x}, []int{2}, nil, &Options{Stability: StabilityOptions{Fraction: 1.5}}, kmeans.ErrSettings},
 		{"subsample too small", kmeans.Problem{Data: x}, []int{2, 3}, nil, &Options{SkipGap: true, Stability: StabilityOptions{Fraction: 0.05}}, kmeans.ErrK},
@@ -157,10 +161,13 @@ func TestSweepSampledSilhouette(t *testing.T) {
 		assert.True(t, math.IsNaN(p.Dunn), "Dunn is off with DunnRows < 0")
 		assert.Nil(t, p.Stability)
 	}
-	dunn := r.Recommendation.Votes[ByDunn]
+	dunn := r.Recommendation.Preferences[ByDunn]
 	assert.Equal(t, ByDunn, dunn.By)
 	assert.Zero(t, dunn.K)
-	assert.Zero(t, r.Recommendation.Votes[ByGap].K)
+	assert.Zero(t, r.Recommendation.Preferences[ByGap].K)
+	for _, s := range r.Recommendation.Standings {
+		assert.True(t, math.IsNaN(s.Scores[ByDunn]) && math.IsNaN(s.Scores[ByGap]), "k=%d: criteria not computed have no score", s.K)
+	}
 }
 
 func TestSweepDeterministic(t *testing.T) {
@@ -194,7 +201,7 @@ func TestSweepS1S2(t *testing.T) {
 			set := reference.LoadOrSkip(t, name)
 			cb := reference.LoadOrSkip(t, name+"-cb")
 			r, err := Sweep(context.Background(), kmeans.Problem{Data: set.X}, ks, &kmeans.Settings{Seed: 1, Restarts: 5}, nil,
-				&Options{SkipGap: true, Stability: StabilityOptions{Resamples: resamples, Restarts: 2}})
+				&Options{SkipGap: true, DunnRows: -1, Stability: StabilityOptions{Resamples: resamples, Restarts: 2}})
 			require.NoError(t, err)
 			var b strings.Builder
 			r.WriteTo(&b)
@@ -204,7 +211,8 @@ func TestSweepS1S2(t *testing.T) {
 			require.NoError(t, err)
 			assert.Zero(t, ci, "centroid index against the published centroids")
 			st := r.Point(15).Stability
-			assert.Equal(t, Stable, st.Verdict(), "every S-set cluster is reproduced by resamples (Hennig 2007 reading, common practice)")
+			assert.Equal(t, validate.Reproduced, st.Reading(), "every S-set cluster is reproduced by resamples (Hennig 2007 reading, common practice)")
+			assert.True(t, r.Recommendation.Clear, "15 well-separated Gaussian clusters are a clear structure")
 		})
 	}
 }
@@ -221,8 +229,8 @@ func TestSweepIris(t *testing.T) {
 	var b strings.Builder
 	r.WriteTo(&b)
 	t.Logf("iris, z-scored:\n%s", b.String())
-	for _, v := range r.Recommendation.Votes {
-		t.Logf("iris: %s votes k = %d (%s)", v.By, v.K, v.Reason)
+	for _, v := range r.Recommendation.Preferences {
+		t.Logf("iris: %s prefers k = %d (%s)", v.By, v.K, v.Note)
 	}
 	assert.Contains(t, []int{2, 3}, r.Recommendation.K)
 }
@@ -280,7 +288,7 @@ func TestGapHitRate(t *testing.T) {
 				r, err := Sweep(context.Background(), kmeans.Problem{Data: sc.data(100 + seed)}, sweepRange(1, 8), &kmeans.Settings{Seed: seed, Restarts: 5}, nil,
 					&Options{SkipStability: true, GapReferences: 10, GapRestarts: 2})
 				require.NoError(t, err)
-				v := r.Recommendation.Votes[ByGap]
+				v := r.Recommendation.Preferences[ByGap]
 				picks = append(picks, v.K)
 				if v.K == sc.want {
 					hits++
@@ -293,110 +301,10 @@ func TestGapHitRate(t *testing.T) {
 	}
 }
 
-// TestRecommendRule applies the documented rule to hand-made evidence.
-func TestRecommendRule(t *testing.T) {
-	nan := math.NaN()
-	stab := func(minJ float64) *Stability { return &Stability{Jaccard: []float64{1, minJ}, MeanARI: minJ} }
-	point := func(k int, sil, db, ch float64, st *Stability) Point {
-		return Point{K: k, Cost: 100 / float64(k), Silhouette: validate.Estimate{Mean: sil, Lo: sil, Hi: sil}, DaviesBouldin: db, CalinskiHarabasz: ch, Dunn: nan, Gap: nan, GapSE: nan, Stability: st}
-	}
-	none := func(by Criterion) Vote { return Vote{By: by, Reason: "off"} }
-	cases := []struct {
-		name        string
-		points      []Point
-		knee, gap   Vote
-		want, votes int
-		admissible  []int
-	}{
-		{
-			name: "majority on a stable k",
-			points: []Point{
-				point(2, 0.5, 0.9, 100, stab(0.9)),
-				point(3, 0.7, 0.5, 300, stab(0.95)),
-				point(4, 0.6, 0.6, 200, stab(0.8)),
-			},
-			knee: Vote{By: ByKnee, K: 2}, gap: none(ByGap), want: 3, votes: 3, admissible: []int{2, 3, 4},
-		},
-		{
-			name: "unstable winner is passed over",
-			points: []Point{
-				point(2, 0.5, 0.9, 100, stab(0.9)),
-				point(3, 0.7, 0.5, 300, stab(0.5)),
-				point(4, 0.6, 0.6, 200, stab(0.8)),
-			},
-			knee: Vote{By: ByKnee, K: 4}, gap: Vote{By: ByGap, K: 2}, want: 2, votes: 1, admissible: []int{2, 4},
-		},
-		{
-			name: "tie goes to the smaller k",
-			points: []Point{
-				point(2, 0.7, 0.9, nan, stab(0.9)),
-				point(3, 0.6, 0.5, nan, stab(0.9)),
-			},
-			knee: none(ByKnee), gap: none(ByGap), want: 2, votes: 1, admissible: []int{2, 3},
-		},
-		{
-			name: "equal scores go to the smaller k",
-			points: []Point{
-				point(2, 0.7, 0.5, 300, nil),
-				point(3, 0.7, 0.5, 300, nil),
-			},
-			knee: none(ByKnee), gap: none(ByGap), want: 2, votes: 3, admissible: []int{2, 3},
-		},
-		{
-			name: "gap's k = 1 wins split votes",
-			points: []Point{
-				point(1, nan, nan, nan, nil),
-				point(2, 0.3, 0.9, 100, stab(0.7)),
-				point(3, 0.2, 0.5, 300, stab(0.65)),
-				point(4, 0.1, 0.6, 350, stab(0.7)),
-			},
-			knee: none(ByKnee), gap: Vote{By: ByGap, K: 1}, want: 1, votes: 1, admissible: []int{1, 2, 3, 4},
-		},
-		{
-			name: "all unstable: most votes overall",
-			points: []Point{
-				point(2, 0.3, 0.9, 100, stab(0.3)),
-				point(3, 0.5, 0.5, 300, stab(0.2)),
-			},
-			knee: none(ByKnee), gap: none(ByGap), want: 3, votes: 3,
-		},
-		{
-			name:   "no votes: smallest k",
-			points: []Point{point(1, nan, nan, nan, nil)},
-			knee:   none(ByKnee), gap: none(ByGap), want: 1, votes: 0, admissible: []int{1},
-		},
-	}
-	for _, c := range cases {
-		t.Run(c.name, func(t *testing.T) {
-			r := &Result{Points: c.points}
-			r.recommend(c.knee, c.gap, true)
-			rec := r.Recommendation
-			assert.Equal(t, c.want, rec.K)
-			assert.Equal(t, c.votes, rec.Support)
-			assert.Equal(t, c.admissible, rec.Admissible)
-			require.Len(t, rec.Votes, int(numCriteria))
-			for i, v := range rec.Votes {
-				assert.Equal(t, Criterion(i), v.By)
-			}
-			assert.NotEmpty(t, rec.Reasons)
-			assert.Contains(t, rec.String(), fmt.Sprintf("recommended k = %d", c.want))
-		})
-	}
-}
-
-func TestCriterionString(t *testing.T) {
-	names := map[string]bool{}
-	for c := range numCriteria {
-		names[c.String()] = true
-	}
-	assert.Len(t, names, int(numCriteria))
-	assert.Equal(t, "Criterion(9)", Criterion(9).String())
-}
-
 // TestSweepWriteToError checks the writer's error is returned.
 func TestSweepWriteToError(t *testing.T) {
 	r := &Result{Points: []Point{{K: 1, Cost: 1, Silhouette: validate.Estimate{Mean: math.NaN()}, DaviesBouldin: math.NaN(), CalinskiHarabasz: math.NaN(), Dunn: math.NaN(), Gap: math.NaN()}}}
-	r.recommend(Vote{By: ByKnee}, Vote{By: ByGap}, false)
+	r.recommend(curveEvidence{}, curveEvidence{}, false)
 	_, err := r.WriteTo(failWriter{})
 	require.Error(t, err)
 }

@@ -97,7 +97,7 @@ func Example() {
 	}
 	fmt.Println("pca.png:", pngSize(filepath.Join(dir, "pca.png")))
 	// Output:
-	// choosing k: recommended k = 3 (6 of 6 votes)
-	// indices.png: 960×893 pixels
+	// choosing k: k = 3 recommended, combined score 1.00, clear structure
+	// indices.png: 960×739 pixels
 	// pca.png: 600×450 pixels
 }

@@ -92,6 +92,9 @@ type Figure struct {
 	// Width and Height are the default size.
 	Width, Height vg.Length
 	draw          func(c draw.Canvas)
+	// minWidth and minHeight are the smallest size the figure can be
+	// drawn at (zero: no limit); below it gonum/plot's axes get no room.
+	minWidth, minHeight vg.Length
 }
 
 // Save writes the figure to the file path in the format named by its
@@ -177,6 +180,9 @@ func (f *Figure) resolve(size *Size) (Size, error) {
 	}
 	if s.DPI == 0 {
 		s.DPI = DefaultDPI
+	}
+	if s.Width < f.minWidth || s.Height < f.minHeight {
+		return s, fmt.Errorf("%w: %v × %v is too small for this figure, want at least %v × %v", ErrSize, s.Width, s.Height, f.minWidth, f.minHeight)
 	}
 	px := float64(s.Width.Dots(float64(s.DPI))) * float64(s.Height.Dots(float64(s.DPI)))
 	if !(s.Width > 0 && s.Height > 0) || px > maxPixels {

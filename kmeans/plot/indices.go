@@ -5,22 +5,26 @@ import (
 	"image/color"
 	"math"
 
-	"github.com/centroidlab/centroid/kmeans/choosek"
-
 	gplot "gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
+
+	"github.com/centroidlab/centroid/kmeans/choosek"
 )
 
 // Indices returns a figure of the evidence of a sweep against k, one panel
-// per line of evidence: the cost (within-cluster sum of squares) with its
-// knee, the mean silhouette (with its 95% interval when estimated),
-// Davies–Bouldin, Caliński–Harabasz, Dunn (if computed), the gap statistic
-// with ±s_k bars (if computed), and stability (mean ARI between resamples and
-// the weakest cluster's mean Jaccard, with Hennig's 0.6 and 0.75 lines).
-// A dashed vertical line marks the recommended k in every panel and a ring
-// marks the k each criterion voted for. The default size is 10 × 9 inches.
+// per line of evidence: the agreement of the criteria (the combined score
+// of every k, with the 0.8 line of clear evidence), the cost
+// (within-cluster sum of squares) with its knee, the mean silhouette (with
+// its 95% interval when estimated), Davies–Bouldin, Caliński–Harabasz, Dunn
+// (if computed), the gap statistic with ±s_k bars (if computed), and
+// stability (mean ARI between resamples and the weakest cluster's mean
+// Jaccard, with Hennig's 0.6 and 0.75 lines). A dashed vertical line marks
+// the recommended k in every panel, a ring marks the k each criterion
+// ranks first, and the title gives the recommended k with its combined
+// score. The last tile explains how to read the figure. The default width
+// is 10 inches.
 //
 // It returns an error wrapping ErrInput if sw is nil or has no points.
 func Indices(sw *choosek.Result) (*Figure, error) {
@@ -28,9 +32,9 @@ func Indices(sw *choosek.Result) (*Figure, error) {
 		return nil, fmt.Errorf("%w: empty sweep", ErrInput)
 	}
 	rec := sw.Recommendation
-	votes := map[choosek.Criterion]int{}
-	for _, v := range rec.Votes {
-		votes[v.By] = v.K
+	first := map[choosek.Criterion]int{}
+	for _, v := range rec.Preferences {
+		first[v.By] = v.K
 	}
 	type series struct {
 		name   string
@@ -39,13 +43,21 @@ func Indices(sw *choosek.Result) (*Figure, error) {
 	}
 	type panel struct {
 		title  string
-		by     choosek.Criterion // the criterion voting from this panel; -1 for none
+		by     choosek.Criterion // the criterion this panel shows; -1 for none
+		ring   int               // the k ringed on the first series, 0 for none
 		series []series
 		hlines []float64
 	}
-	pick := func(f func(p *choosek.Point) float64) func(*choosek.Point) float64 { return f }
+	combined := make(map[int]float64, len(rec.Standings))
+	for _, s := range rec.Standings {
+		combined[s.K] = s.Combined
+	}
 	panels := []panel{
-		{title: "cost: within-cluster sum of squares (knee)", by: choosek.ByKnee, series: []series{{name: "cost", value: pick(func(p *choosek.Point) float64 { return p.Cost })}}},
+		{title: "agreement: combined score of the criteria", by: -1, ring: rec.K, hlines: []float64{0.8}, series: []series{{
+			name:  "combined score",
+			value: func(p *choosek.Point) float64 { return valueOr(combined, p.K) },
+		}}},
+		{title: "cost: within-cluster sum of squares (knee)", by: choosek.ByKnee, series: []series{{name: "cost", value: func(p *choosek.Point) float64 { return p.Cost }}}},
 		{title: "silhouette (higher is better)", by: choosek.BySilhouette, series: []series{{
 			name:  "silhouette",
 			value: func(p *choosek.Point) float64 { return p.Silhouette.Mean },
@@ -73,8 +85,8 @@ func Indices(sw *choosek.Result) (*Figure, error) {
 	for _, pn := range panels {
 		p := gplot.New()
 		p.Title.Text = pn.title
-		if pn.by >= 0 && votes[pn.by] != 0 {
-			p.Title.Text += fmt.Sprintf(": k = %d", votes[pn.by])
+		if pn.by >= 0 && first[pn.by] != 0 {
+			p.Title.Text += fmt.Sprintf(": k = %d", first[pn.by])
 		}
 		p.Title.TextStyle.Font.Size = 10
 		p.X.Label.Text = "k"
@@ -127,9 +139,13 @@ func Indices(sw *choosek.Result) (*Figure, error) {
 				bars.CapWidth = vg.Points(4)
 				p.Add(bars)
 			}
-			if pn.by >= 0 && votes[pn.by] != 0 {
+			ring := pn.ring
+			if pn.by >= 0 {
+				ring = first[pn.by]
+			}
+			if si == 0 && ring != 0 {
 				for _, xy := range xys {
-					if int(xy.X) == votes[pn.by] {
+					if int(xy.X) == ring {
 						ring, _ := plotter.NewScatter(plotter.XYs{xy})
 						ring.GlyphStyle = draw.GlyphStyle{Color: ClusterColor(1), Radius: vg.Points(6), Shape: draw.RingGlyph{}}
 						p.Add(ring)
@@ -146,12 +162,24 @@ func Indices(sw *choosek.Result) (*Figure, error) {
 		p.Add(vline{x: float64(rec.K)})
 		plots = append(plots, p)
 	}
-	cols := 2
-	rows := (len(plots) + cols - 1) / cols
+	cols := 3
+	rows := (len(plots) + cols) / cols // one tile more for the key
+	title := fmt.Sprintf("choosing k: k = %d recommended, combined score %.2f", rec.K, rec.Combined)
+	switch {
+	case rec.K == 1:
+		title = "choosing k: k = 1 recommended, no cluster structure found"
+	case rec.Clear:
+		title += ", clear structure"
+	default:
+		title += ", weak evidence"
+	}
 	fig := &Figure{
-		Title:  fmt.Sprintf("choosing k: recommended k = %d (%d of %d votes)", rec.K, rec.Support, rec.Cast),
+		Title:  title,
 		Width:  10 * vg.Inch,
-		Height: vg.Length(rows)*2.2*vg.Inch + 0.5*vg.Inch,
+		Height: vg.Length(rows)*2.4*vg.Inch + 0.5*vg.Inch,
+		// Each panel needs room for its axes, ticks and title.
+		minWidth:  vg.Length(cols) * 1.2 * vg.Inch,
+		minHeight: vg.Length(rows)*0.8*vg.Inch + 0.5*vg.Inch,
 	}
 	fig.draw = func(c draw.Canvas) {
 		grid := make([][]*gplot.Plot, rows)
@@ -164,19 +192,68 @@ func Indices(sw *choosek.Result) (*Figure, error) {
 			}
 		}
 		tiles := draw.Tiles{Rows: rows, Cols: cols, PadX: vg.Points(12), PadY: vg.Points(10), PadTop: vg.Points(4), PadBottom: vg.Points(4), PadLeft: vg.Points(4), PadRight: vg.Points(8)}
-		canvases := gplot.Align(grid, tiles, c)
+		canvases := alignPanels(grid, tiles, c)
 		for r := range grid {
 			for j, p := range grid[r] {
-				if p != nil {
+				if p != nil && sound(p, canvases[r][j]) {
 					p.Draw(canvases[r][j])
 				}
 			}
 		}
-		if len(plots)%cols != 0 {
-			key(canvases[rows-1][cols-1])
+		if k := canvases[rows-1][cols-1]; finite(float64(k.Max.Y)) && finite(float64(k.Min.Y)) {
+			key(k)
 		}
 	}
 	return fig, nil
+}
+
+// alignPanels lays the panels out with gplot.Align. gonum/plot divides by
+// the vertical distance between the lowest and the highest glyph of a plot,
+// which is zero for some canvas heights (one glyph box is both); the data
+// area then gets a NaN edge, which spreads to the row and column through
+// the alignment, and drawing such a plot does not end. alignPanels lowers
+// the top of the figure by half a point until every panel is sound, at
+// most eight times; the caller skips a panel that still is not.
+func alignPanels(grid [][]*gplot.Plot, tiles draw.Tiles, c draw.Canvas) [][]draw.Canvas {
+	var out [][]draw.Canvas
+	for range 8 {
+		out = gplot.Align(grid, tiles, c)
+		ok := true
+		for r := range grid {
+			for j, p := range grid[r] {
+				ok = ok && (p == nil || sound(p, out[r][j]))
+			}
+		}
+		if ok {
+			break
+		}
+		c.Max.Y -= vg.Points(0.5)
+	}
+	return out
+}
+
+// sound reports whether p has a finite, non-empty data area in c.
+func sound(p *gplot.Plot, c draw.Canvas) bool {
+	for _, v := range []vg.Length{c.Min.X, c.Min.Y, c.Max.X, c.Max.Y} {
+		if !finite(float64(v)) {
+			return false
+		}
+	}
+	d := p.DataCanvas(c)
+	for _, v := range []vg.Length{d.Min.X, d.Min.Y, d.Max.X, d.Max.Y} {
+		if !finite(float64(v)) {
+			return false
+		}
+	}
+	return d.Max.X > d.Min.X && d.Max.Y > d.Min.Y
+}
+
+// valueOr returns m[k], NaN if k is not in m.
+func valueOr(m map[int]float64, k int) float64 {
+	if v, ok := m[k]; ok {
+		return v
+	}
+	return math.NaN()
 }
 
 // stab returns f of the point's stability, NaN without one.
@@ -202,11 +279,13 @@ func key(c draw.Canvas) {
 	lines := []string{
 		"How to read this figure",
 		"dashed line: the recommended k",
-		"ring: the k that panel's criterion votes for",
+		"ring: the k that panel's criterion ranks first",
+		"agreement: mean of the criteria's scores in [0, 1];",
+		"0.8 and above with a reproduced k is clear",
 		"bars: 95% interval (sampled silhouette), ±s_k (gap)",
-		"stability: Hennig's reading, below 0.6 unstable,",
-		"0.75 and above stable (common practice)",
-		"the recommendation is a heuristic: see the votes",
+		"stability (Hennig 2007, common practice): a cluster",
+		"below 0.6 is not reproduced, from 0.75 reproduced",
+		"the recommendation is a heuristic: read the scores",
 	}
 	y := c.Max.Y - vg.Points(20)
 	for _, l := range lines {

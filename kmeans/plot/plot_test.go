@@ -3,6 +3,7 @@ package plot
 import (
 	"bytes"
 	"context"
+	"fmt"
 	"image/color"
 	"image/png"
 	"math"
@@ -319,5 +320,30 @@ func TestIntTicks(t *testing.T) {
 			}
 		}
 		assert.Equal(t, c.labels, labels, "%v", c)
+	}
+}
+
+// TestIndicesTitleAndSizes checks the figure names the recommended k with
+// its combined score, refuses sizes too small for its panels, and finishes
+// at canvas heights where gonum/plot's data area degenerates (around 3
+// inches for this sweep: without alignPanels, drawing does not end).
+func TestIndicesTitleAndSizes(t *testing.T) {
+	x := blobs(150, 3, 4, 1)
+	sw, err := choosek.Sweep(context.Background(), kmeans.Problem{Data: x}, []int{1, 2, 3, 4, 5, 6}, &kmeans.Settings{Seed: 1, Restarts: 3}, nil,
+		&choosek.Options{GapReferences: 3, Stability: choosek.StabilityOptions{Resamples: 3}})
+	require.NoError(t, err)
+	fig, err := Indices(sw)
+	require.NoError(t, err)
+	rec := sw.Recommendation
+	assert.Contains(t, fig.Title, fmt.Sprintf("k = %d recommended, combined score %.2f", rec.K, rec.Combined))
+	assert.NotContains(t, fig.Title, "votes")
+	assert.ErrorIs(t, fig.Encode(&bytes.Buffer{}, SVG, &Size{Width: 2 * vg.Inch, Height: 6 * vg.Inch}), ErrSize)
+	assert.ErrorIs(t, fig.Encode(&bytes.Buffer{}, SVG, &Size{Width: 6 * vg.Inch, Height: 2 * vg.Inch}), ErrSize)
+	for _, h := range []vg.Length{3, 3.02, 3.04, 3.06, 3.08, 3.1} {
+		var buf bytes.Buffer
+		require.NoError(t, fig.Encode(&buf, PNG, &Size{Width: 5 * vg.Inch, Height: h * vg.Inch, DPI: 50}))
+		img, err := png.Decode(&buf)
+		require.NoError(t, err)
+		assert.Equal(t, int(math.Round(float64(h*vg.Inch)/72*50)), img.Bounds().Dy())
 	}
 }
