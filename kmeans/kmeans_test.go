@@ -334,7 +334,7 @@ func TestBadInput(t *testing.T) {
 
 func TestModelNearestAndJSON(t *testing.T) {
 	x := blobs(1000, 3, 4, 8)
-	for _, sc := range []scale.Scaler{nil, &scale.ZScore{}, &scale.MinMax{}, &scale.Robust{}, &scale.UnitLength{}} {
+	for _, sc := range []scale.Scaler{nil, &scale.ZScore{}, &scale.MinMax{}, &scale.MedianIQR{}, &scale.UnitLength{}} {
 		for _, metric := range []distance.Metric{distance.Euclidean{}, distance.Manhattan{}, distance.Cosine{}} {
 			res, err := Cluster(context.Background(), Problem{Data: x, K: 4, Scaler: sc, Metric: metric}, &Settings{Restarts: 2}, nil)
 			require.NoError(t, err)

@@ -21,7 +21,8 @@ var (
 	// ErrRow means a row index is outside the rows of the reference
 	// labelling (ClusterJaccard).
 	ErrRow = errors.New("validate: row index out of range")
-	// ErrNoKnee means Knee found no knee: the curve is too straight for the
-	// chosen sensitivity, or constant. It is an outcome, not bad input.
+	// ErrNoKnee means Knee found no knee: the curve does not run flat for
+	// KneeOptions.FlatSteps after any bend, or it is constant. It is an
+	// outcome, not bad input.
 	ErrNoKnee = errors.New("validate: no knee found")
 )

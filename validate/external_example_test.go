@@ -100,10 +100,10 @@ func ExampleClusterJaccard() {
 		return
 	}
 	for i, l := range labels {
-		fmt.Printf("cluster %d: %.2f stable=%v\n", l, best[i], best[i] >= validate.JaccardStable)
+		fmt.Printf("cluster %d: %.2f %v\n", l, best[i], validate.ReadJaccard(best[i]))
 	}
 	// Output:
-	// cluster 0: 0.67 stable=false
-	// cluster 1: 0.67 stable=false
-	// cluster 2: 1.00 stable=true
+	// cluster 0: 0.67 partly reproduced
+	// cluster 1: 0.67 partly reproduced
+	// cluster 2: 1.00 reproduced
 }

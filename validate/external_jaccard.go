@@ -26,11 +26,6 @@ const (
 	JaccardReproduced = 0.75
 )
 
-// JaccardStable is the former name of JaccardReproduced.
-//
-// Deprecated: use JaccardReproduced or ReadJaccard.
-const JaccardStable = JaccardReproduced
-
 // Reproduction is how well refits of resampled data reproduce a cluster,
 // read from its mean best Jaccard similarity by ReadJaccard. The zero value
 // is NotReproduced, the cautious reading.

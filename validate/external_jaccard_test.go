@@ -151,7 +151,6 @@ func TestReadJaccard(t *testing.T) {
 	assert.Equal(t, 0.5, JaccardLost)
 	assert.Equal(t, 0.6, JaccardPartly)
 	assert.Equal(t, 0.75, JaccardReproduced)
-	assert.Equal(t, JaccardReproduced, JaccardStable)
 	assert.Equal(t, "not reproduced|partly reproduced|reproduced|Reproduction(7)",
 		NotReproduced.String()+"|"+PartlyReproduced.String()+"|"+Reproduced.String()+"|"+Reproduction(7).String())
 	var zero Reproduction

@@ -10,6 +10,7 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/centroidlab/centroid/internal/data/bikeshare"
 	"github.com/centroidlab/centroid/kmeans"
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
@@ -44,6 +45,8 @@ func TestRun(t *testing.T) {
 	var m kmeans.Model
 	require.NoError(t, json.Unmarshal(b, &m))
 	require.Equal(t, 6, m.Dim())
+	// The saved model carries its schema, so the service can serve it.
+	require.Equal(t, bikeshare.Features(), m.Features())
 	require.Equal(t, 4, strings.Count(report, "→ cluster"))
 
 	plots := map[string][]byte{}

@@ -60,7 +60,7 @@ func run(ctx context.Context, w io.Writer, o options) error {
 		SkipStability: o.resamples == 0,
 		Stability:     choosek.StabilityOptions{Resamples: o.resamples, Restarts: resampleRestarts},
 	}
-	problem := kmeans.Problem{Data: X, Scaler: &scale.ZScore{}}
+	problem := kmeans.Problem{Data: X, Scaler: &scale.ZScore{}, Features: names}
 	sw, err := choosek.Sweep(ctx, problem, ks, &kmeans.Settings{Restarts: sweepRestarts, Seed: o.seed}, nil, opts)
 	if err != nil {
 		return fmt.Errorf("sweep: %w", err)
@@ -90,13 +90,8 @@ func run(ctx context.Context, w io.Writer, o options) error {
 		fmt.Fprintf(w, "agreement with the %d latent station kinds (known only because the data is invented): adjusted Rand index %.3f\n", bikeshare.NumKinds, ari)
 	}
 
-	// Profiles in original units, named by the model's schema (the
-	// feature names when the problem carried none).
-	schema := res.Model.Features()
-	if schema == nil {
-		schema = names
-	}
-	pf, err := profile.Explain(X, res.Assignments, &profile.Options{Names: schema, Units: units, K: res.Model.K(), Noun: "stations"})
+	// Profiles in original units, named by the model's schema.
+	pf, err := profile.Explain(X, res.Assignments, &profile.Options{Names: res.Model.Features(), Units: units, K: res.Model.K(), Noun: "stations"})
 	if err != nil {
 		return fmt.Errorf("profiles: %w", err)
 	}
