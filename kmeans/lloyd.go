@@ -77,7 +77,7 @@ type lloydKernel struct {
 
 func (p *lloydKernel) Assign(st *Step) {
 	sp, k, d := p.sp, p.k, p.sp.D
-	p.packed.Pack(st.Centers, k, d, nil)
+	p.packed.Pack(st.Centers, k, d)
 	tile := kernelTile(d)
 	sp.Parallel(func(b int) {
 		ks := p.pool.get()

@@ -172,21 +172,24 @@ func TestSearchScaled(t *testing.T) {
 	}
 }
 
-// TestKernelsBitIdentical checks that the abandoning kernels, when not
-// abandoning, compute the metric's own loss bit for bit.
-func TestKernelsBitIdentical(t *testing.T) {
-	rnd := rand.New(rand.NewPCG(2, 2))
-	for d := 1; d <= 41; d++ {
-		for range 50 {
-			z, c := make([]float64, d), make([]float64, d)
-			for i := range z {
-				z[i] = rnd.NormFloat64() * math.Pow(10, float64(rnd.IntN(8)-4))
-				c[i] = rnd.NormFloat64()
-			}
-			require.Equal(t, math.Float64bits(distance.SqEuclidean(z, c)), math.Float64bits(sqEuclideanBelow(z, c, math.Inf(1))), "d=%d", d)
-			require.Equal(t, math.Float64bits(distance.Manhattan{}.Distance(z, c)), math.Float64bits(manhattanBelow(z, c, math.Inf(1))), "d=%d", d)
-			full := distance.SqEuclidean(z, c)
-			assert.True(t, math.IsInf(sqEuclideanBelow(z, c, full/4), 1) || sqEuclideanBelow(z, c, full/4) == full)
+// TestServeLargeK: a model with many centers (as a document may carry)
+// answers exactly as a brute-force scan, under both metrics the serving
+// search handles.
+func TestServeLargeK(t *testing.T) {
+	rnd := rand.New(rand.NewPCG(9, 9))
+	const k, d = 20000, 3
+	c := make([]float64, k*d)
+	for i := range c {
+		c[i] = float64(rnd.IntN(200)) // duplicates and ties
+	}
+	for _, metric := range []distance.Objective{distance.Euclidean{}, distance.Manhattan{}} {
+		m := newModel(c, k, d, metric, nil)
+		for range 100 {
+			q := []float64{rnd.Float64() * 200, float64(rnd.IntN(200)), rnd.NormFloat64() * 100}
+			want := scanAssign(metric, nil, c, k, q)
+			got, err := m.Assign(q)
+			require.NoError(t, err)
+			require.Equal(t, want, got, metric.Name())
 		}
 	}
 }

@@ -31,7 +31,7 @@ func BenchmarkSearch(b *testing.B) {
 			x := randRows(rnd, s.m, s.d, 0)
 			cs := randRows(rnd, s.k, s.d, 0)
 			var c Centers
-			c.Pack(cs, s.k, s.d, nil)
+			c.Pack(cs, s.k, s.d)
 			var sr Searcher
 			dst := make([]int, s.m)
 			const tile = 256

@@ -13,7 +13,7 @@ func ExampleSearcher_Assign() {
 	centers := []float64{100, 20, 300, 20}
 	rows := []float64{120, 25, 200, 20, 290, 18}
 	var c nearest.Centers
-	c.Pack(centers, 2, 2, nil)
+	c.Pack(centers, 2, 2)
 	var s nearest.Searcher
 	dst := make([]int, 3)
 	rechecked := s.Assign(dst, rows, 3, &c, func(i, j int) float64 {

@@ -242,7 +242,7 @@ func (c config) kernelRow(d, k int) {
 	cs := x[:k*d]
 	flops := func(rows int) float64 { return 2 * float64(rows) * float64(d) * float64(k) }
 	var packed nearest.Centers
-	packed.Pack(cs, k, d, nil)
+	packed.Pack(cs, k, d)
 	direct := func(i, j int) float64 { return distance.SqEuclidean(x[i*d:(i+1)*d], cs[j*d:(j+1)*d]) }
 	kernel := func(lo, hi int) {
 		var s nearest.Searcher
