@@ -1,21 +1,17 @@
 package nearest
 
-import (
-	"math"
-
-	"github.com/centroidlab/centroid/internal/asm/f64"
-)
+import "math"
 
 // Centers is a set of k centers in d dimensions prepared for the kernel
-// f64.Best2: shifted by a common vector (their mean), packed in panels of
-// f64.Panel centers, with their squared norms. Pack it once per set of
+// f64.Best2: shifted by a common vector (their mean), with their squared
+// norms. Pack it once per set of
 // centers; afterwards it is read-only and may be shared by concurrent
 // Searchers. The zero value is empty and ready for Pack.
 type Centers struct {
 	k, d    int
 	shift   []float64 // subtracted from rows and centers: the mean of the centers
-	c       []float64 // shifted centers in the packed layout of f64.Best2
-	norm2   []float64 // ‖c_j‖² in floating point; padded lanes +Inf
+	c       []float64 // shifted centers, k×d row-major
+	norm2   []float64 // ‖c_j‖² in floating point
 	maxNorm float64   // max_j √norm2[j]
 	round   Rounding
 }
@@ -54,8 +50,8 @@ func (p *Centers) Pack(c []float64, k, d int) {
 	}
 	p.k, p.d, p.round = k, d, NewRounding(d)
 	p.shift = grow(p.shift, d)
-	p.c = grow(p.c, f64.PackedLen(k, d))
-	p.norm2 = grow(p.norm2, f64.PackedLen(k, 1))
+	p.c = grow(p.c, k*d)
+	p.norm2 = grow(p.norm2, k)
 	clear(p.shift)
 	for j := range k {
 		for t, v := range c[j*d : (j+1)*d] {
@@ -65,21 +61,17 @@ func (p *Centers) Pack(c []float64, k, d int) {
 	for t := range p.shift {
 		p.shift[t] /= float64(k)
 	}
-	clear(p.c)
 	var maxN2 float64
 	for j := range k {
-		dst := p.c[j/f64.Panel*f64.Panel*d+j%f64.Panel:]
+		dst := p.c[j*d : (j+1)*d]
 		var n2 float64
 		for t, v := range c[j*d : (j+1)*d] {
 			w := v - p.shift[t]
-			dst[t*f64.Panel] = w
+			dst[t] = w
 			n2 += w * w
 		}
 		p.norm2[j] = n2
 		maxN2 = math.Max(maxN2, n2)
-	}
-	for j := k; j < len(p.norm2); j++ {
-		p.norm2[j] = math.Inf(1)
 	}
 	p.maxNorm = math.Sqrt(maxN2)
 }

@@ -13,7 +13,7 @@ const panelBytes = 32 << 10
 // Searcher holds the scratch of one goroutine's search over blocks of rows.
 // The zero value is ready for use.
 type Searcher struct {
-	x            []float64 // loaded rows minus the shift, m×d
+	x            []float64 // loaded rows minus the shift, packed (f64.Pack)
 	r2, slack    []float64 // ‖x_i‖² and the rounding bound T of row i (+Inf if unbounded)
 	idx          []int     // f64.Best2's outputs of the last scan
 	best, second []float64
@@ -25,20 +25,25 @@ type Searcher struct {
 func (s *Searcher) load(x []float64, m int, c *Centers) {
 	d := c.d
 	s.m = m
-	s.x = grow(s.x, m*d)
+	s.x = grow(s.x, f64.PackedLen(m, d))
 	s.r2 = grow(s.r2, m)
 	s.slack = grow(s.slack, m)
 	s.idx = growInt(s.idx, m)
 	s.best = grow(s.best, m)
 	s.second = grow(s.second, m)
 	shift := c.shift[:d]
+	for i := m; i < (m+f64.Panel-1)/f64.Panel*f64.Panel; i++ { // padded lanes
+		for t := range d {
+			s.x[i/f64.Panel*f64.Panel*d+t*f64.Panel+i%f64.Panel] = 0
+		}
+	}
 	for i := range m {
 		src := x[i*d : (i+1)*d][:len(shift)]
-		dst := s.x[i*d : (i+1)*d][:len(shift)]
+		dst := s.x[i/f64.Panel*f64.Panel*d+i%f64.Panel:]
 		var r2 float64
 		for t, v := range src {
 			w := v - shift[t]
-			dst[t] = w
+			dst[t*f64.Panel] = w
 			r2 += w * w
 		}
 		s.r2[i] = r2
@@ -55,11 +60,10 @@ func (s *Searcher) scan(c *Centers, j0, j1 int) {
 		s.best[i] = math.Inf(1)
 		s.second[i] = math.Inf(1)
 	}
-	step := max(1, panelBytes/(8*d*f64.Panel)) * f64.Panel
-	for p := j0; p < j1; {
-		q := min(j1, (p/f64.Panel)*f64.Panel+step)
-		f64.Best2(s.idx[:m], s.best, s.second, s.x, d, c.c, c.norm2, p, q)
-		p = q
+	step := max(8, panelBytes/(8*d))
+	for p := j0; p < j1; p += step {
+		q := min(j1, p+step)
+		f64.Best2(s.idx[:m], s.best, s.second, s.x, d, c.c[:q*d], c.norm2[:q], p, q)
 	}
 }
 

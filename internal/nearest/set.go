@@ -1,6 +1,10 @@
 package nearest
 
-import "math"
+import (
+	"math"
+
+	"github.com/centroidlab/centroid/internal/asm/f64"
+)
 
 // MaxValues is the largest number of center values k·d that serving is
 // built for: a Set of that size holds 128 MiB of centers, and one search
@@ -37,7 +41,17 @@ type Set struct {
 	k, d int
 	loss Loss
 	c    []float64
+	// The kernel path (SquaredEuclidean, an assembly kernel, d ≤ maxKernelDim):
+	// centers shifted by their mean and packed for f64.Best2Row, their
+	// squared norms (padded lanes +Inf) and largest norm.
+	packed, norm2, shift []float64
+	maxNorm              float64
+	round                Rounding
 }
+
+// maxKernelDim is the largest dimension the kernel path serves (its
+// shifted row lives on the stack).
+const maxKernelDim = 256
 
 // NewSet returns the Set of the k×d centers c (row-major, not copied: c
 // must not be modified while the Set is in use). It panics if k < 1, d < 1,
@@ -46,7 +60,19 @@ func NewSet(c []float64, k, d int, loss Loss) *Set {
 	if k < 1 || d < 1 || len(c) < k*d || (loss != SquaredEuclidean && loss != Manhattan) {
 		panic("nearest: NewSet needs k ≥ 1, d ≥ 1, len(c) ≥ k·d and a known loss")
 	}
-	return &Set{k: k, d: d, loss: loss, c: c[:k*d]}
+	s := &Set{k: k, d: d, loss: loss, c: c[:k*d]}
+	if loss == SquaredEuclidean && f64.Kernel() != "go" && d <= maxKernelDim {
+		var p Centers
+		p.Pack(c, k, d)
+		s.packed = f64.Pack(make([]float64, f64.PackedLen(k, d)), p.c, k, d, 0)
+		s.norm2 = make([]float64, f64.PackedLen(k, 1))
+		for j := range s.norm2 {
+			s.norm2[j] = math.Inf(1)
+		}
+		copy(s.norm2, p.norm2)
+		s.shift, s.maxNorm, s.round = p.shift, p.maxNorm, p.round
+	}
+	return s
 }
 
 // Nearest returns the center with the smallest loss to z, the lowest index
@@ -68,6 +94,70 @@ func (s *Set) search(z []float64, wantSecond bool) (int, float64, float64) {
 	if len(z) != s.d {
 		panic("nearest: row length differs from the Set's dimension")
 	}
+	if s.packed != nil {
+		var ok bool
+		var j int
+		var l, l2 float64
+		switch {
+		case s.d <= 16:
+			var buf [16]float64
+			j, l, l2, ok = s.kernel(buf[:s.d], z, wantSecond)
+		case s.d <= 64:
+			var buf [64]float64
+			j, l, l2, ok = s.kernel(buf[:s.d], z, wantSecond)
+		default:
+			var buf [maxKernelDim]float64
+			j, l, l2, ok = s.kernel(buf[:s.d], z, wantSecond)
+		}
+		if ok {
+			return j, l, l2
+		}
+	}
+	return s.scan(z)
+}
+
+// kernel searches with f64.Best2Row on the shifted row (written into x)
+// and reports whether the kernel's answer is certain: the best value (and,
+// if wantSecond, the best among the other centers) beats the next by more
+// than twice the rounding slack, so that the direct losses order the same
+// way (see Centers). The losses returned are then computed directly, with
+// the distance package's arithmetic. When the answer is not certain the
+// caller scans.
+func (s *Set) kernel(x, z []float64, wantSecond bool) (int, float64, float64, bool) {
+	shift := s.shift[:len(x)]
+	z = z[:len(x)]
+	var r0, r1 float64
+	t := 0
+	for ; t+1 < len(x); t += 2 {
+		a, b := z[t]-shift[t], z[t+1]-shift[t+1]
+		x[t], x[t+1] = a, b
+		r0 += a * a
+		r1 += b * b
+	}
+	if t < len(x) {
+		a := z[t] - shift[t]
+		x[t] = a
+		r0 += a * a
+	}
+	slack2 := 2 * s.round.Slack(math.Sqrt(r0+r1), s.maxNorm)
+	j, v1, v2 := f64.Best2Row(x, s.packed, s.norm2, s.k, -1)
+	if !(v2-v1 > slack2) {
+		return 0, 0, 0, false
+	}
+	d := s.d
+	loss, second := sq1(z, s.c[j*d:(j+1)*d]), math.Inf(1)
+	if wantSecond && s.k > 1 {
+		q, w1, w2 := f64.Best2Row(x, s.packed, s.norm2, s.k, j)
+		if !(w2-w1 > slack2) {
+			return 0, 0, 0, false
+		}
+		second = sq1(z, s.c[q*d:(q+1)*d])
+	}
+	return j, loss, second, true
+}
+
+// scan measures every center.
+func (s *Set) scan(z []float64) (int, float64, float64) {
 	best, bl, sl := 0, math.Inf(1), math.Inf(1)
 	record := func(j int, l float64) {
 		if l < sl {

@@ -1,7 +1,10 @@
 package f64
 
-// Panel is the number of centers in one panel of the packed layout that
-// Best2 reads.
+import "math"
+
+var inf = math.Inf(1)
+
+// Panel is the number of rows in one panel of the packed layout (see Pack).
 const Panel = 8
 
 const (
@@ -9,13 +12,40 @@ const (
 	panicRange = "f64: center range out of order"
 )
 
-// PackedLen returns the length of the packed center slice for k centers of
-// dimension d: whole panels of Panel centers, d·Panel values each.
-func PackedLen(k, d int) int { return (k + Panel - 1) / Panel * Panel * d }
+// PackedLen returns the length of n rows of dimension d in the packed
+// layout: whole panels of Panel rows, d·Panel values each.
+func PackedLen(n, d int) int { return (n + Panel - 1) / Panel * Panel * d }
 
-// best2Generic is the pure-Go Best2. Rows are taken two at a time and
-// centers four at a time (half a panel), so that eight independent dot
-// products share each load of a row or center element.
+// Pack writes the n rows of src (n×d row-major) into dst in the packed
+// layout and returns dst: panel p holds rows p·Panel … p·Panel+Panel−1,
+// coordinate by coordinate, so that element t of row i is
+// dst[i/Panel·Panel·d + t·Panel + i%Panel]. Lanes of the last panel beyond
+// n are set to pad. It panics if len(dst) < PackedLen(n, d) or
+// len(src) < n·d.
+func Pack(dst, src []float64, n, d int, pad float64) []float64 {
+	if len(dst) < PackedLen(n, d) || len(src) < n*d {
+		panic(panicShort)
+	}
+	dst = dst[:PackedLen(n, d)]
+	for i := n; i < (n+Panel-1)/Panel*Panel; i++ {
+		base := i / Panel * Panel * d
+		for t := range d {
+			dst[base+t*Panel+i%Panel] = pad
+		}
+	}
+	for i := range n {
+		row := src[i*d : (i+1)*d]
+		out := dst[i/Panel*Panel*d+i%Panel:]
+		for t, v := range row {
+			out[t*Panel] = v
+		}
+	}
+	return dst
+}
+
+// best2Generic is the pure-Go Best2. Rows are taken four at a time (half a
+// panel) and centers two at a time, so that eight independent dot products
+// share each load of a row or center element.
 func best2Generic(idx []int, best, second, x []float64, d int, c, norm2 []float64, j0, j1 int) {
 	m := len(idx)
 	checkBest2(m, len(best), len(second), len(x), d, len(c), len(norm2), j0, j1)
@@ -23,87 +53,103 @@ func best2Generic(idx []int, best, second, x []float64, d int, c, norm2 []float6
 		return
 	}
 	best, second = best[:m], second[:m]
-	p0, p1 := j0/Panel, (j1+Panel-1)/Panel
-	i := 0
-	for ; i+2 <= m; i += 2 {
-		x0 := x[i*d : i*d+d]
-		x1 := x[i*d+d : i*d+2*d][:len(x0)]
-		for p := p0; p < p1; p++ {
-			panel := c[p*Panel*d : (p+1)*Panel*d]
-			for h := 0; h < Panel; h += 4 {
-				lo := p*Panel + h
-				if lo+4 <= j0 || lo >= j1 {
-					continue
+	for i0 := 0; i0 < m; i0 += 4 {
+		p, h := i0/Panel, i0%Panel
+		panel := x[p*Panel*d : (p+1)*Panel*d]
+		rows := min(4, m-i0)
+		j := j0
+		for ; j+2 <= j1; j += 2 {
+			c0 := c[j*d : j*d+d]
+			c1 := c[j*d+d : j*d+2*d][:len(c0)]
+			var s00, s01, s02, s03, s10, s11, s12, s13 float64
+			q := panel[h:]
+			for t, b0 := range c0 {
+				b1 := c1[t]
+				q0, q1, q2, q3 := q[0], q[1], q[2], q[3]
+				s00 += q0 * b0
+				s01 += q1 * b0
+				s02 += q2 * b0
+				s03 += q3 * b0
+				s10 += q0 * b1
+				s11 += q1 * b1
+				s12 += q2 * b1
+				s13 += q3 * b1
+				if len(q) > Panel {
+					q = q[Panel:]
 				}
-				var s00, s01, s02, s03, s10, s11, s12, s13 float64
-				q := panel[h:]
-				for t, a0 := range x0 {
-					a1 := x1[t]
-					q0, q1, q2, q3 := q[0], q[1], q[2], q[3]
-					s00 += a0 * q0
-					s01 += a0 * q1
-					s02 += a0 * q2
-					s03 += a0 * q3
-					s10 += a1 * q0
-					s11 += a1 * q1
-					s12 += a1 * q2
-					s13 += a1 * q3
-					if len(q) > Panel {
-						q = q[Panel:]
-					}
+			}
+			n0, n1 := norm2[j], norm2[j+1]
+			if rows == 4 {
+				push(idx, best, second, i0, j, n0-2*s00)
+				push(idx, best, second, i0, j+1, n1-2*s10)
+				push(idx, best, second, i0+1, j, n0-2*s01)
+				push(idx, best, second, i0+1, j+1, n1-2*s11)
+				push(idx, best, second, i0+2, j, n0-2*s02)
+				push(idx, best, second, i0+2, j+1, n1-2*s12)
+				push(idx, best, second, i0+3, j, n0-2*s03)
+				push(idx, best, second, i0+3, j+1, n1-2*s13)
+				continue
+			}
+			r0 := [4]float64{s00, s01, s02, s03}
+			r1 := [4]float64{s10, s11, s12, s13}
+			for l := range rows {
+				push(idx, best, second, i0+l, j, n0-2*r0[l])
+				push(idx, best, second, i0+l, j+1, n1-2*r1[l])
+			}
+		}
+		if j < j1 {
+			c0 := c[j*d : j*d+d]
+			var s0, s1, s2, s3 float64
+			q := panel[h:]
+			for _, b := range c0 {
+				s0 += q[0] * b
+				s1 += q[1] * b
+				s2 += q[2] * b
+				s3 += q[3] * b
+				if len(q) > Panel {
+					q = q[Panel:]
 				}
-				n := norm2[lo : lo+4 : lo+4]
-				if lo >= j0 && lo+4 <= j1 {
-					push(idx, best, second, i, lo, n[0]-2*s00)
-					push(idx, best, second, i, lo+1, n[1]-2*s01)
-					push(idx, best, second, i, lo+2, n[2]-2*s02)
-					push(idx, best, second, i, lo+3, n[3]-2*s03)
-					push(idx, best, second, i+1, lo, n[0]-2*s10)
-					push(idx, best, second, i+1, lo+1, n[1]-2*s11)
-					push(idx, best, second, i+1, lo+2, n[2]-2*s12)
-					push(idx, best, second, i+1, lo+3, n[3]-2*s13)
-					continue
-				}
-				r0 := [4]float64{s00, s01, s02, s03}
-				r1 := [4]float64{s10, s11, s12, s13}
-				for l := range 4 {
-					if j := lo + l; j >= j0 && j < j1 {
-						push(idx, best, second, i, j, n[l]-2*r0[l])
-						push(idx, best, second, i+1, j, n[l]-2*r1[l])
-					}
-				}
+			}
+			r := [4]float64{s0, s1, s2, s3}
+			for l := range rows {
+				push(idx, best, second, i0+l, j, norm2[j]-2*r[l])
 			}
 		}
 	}
-	if i < m {
-		x0 := x[i*d : i*d+d]
-		for p := p0; p < p1; p++ {
-			panel := c[p*Panel*d : (p+1)*Panel*d]
-			for h := 0; h < Panel; h += 4 {
-				lo := p*Panel + h
-				if lo+4 <= j0 || lo >= j1 {
-					continue
-				}
-				var s0, s1, s2, s3 float64
-				q := panel[h:]
-				for _, a := range x0 {
-					s0 += a * q[0]
-					s1 += a * q[1]
-					s2 += a * q[2]
-					s3 += a * q[3]
-					if len(q) > Panel {
-						q = q[Panel:]
-					}
-				}
-				r := [4]float64{s0, s1, s2, s3}
-				for l := range 4 {
-					if j := lo + l; j >= j0 && j < j1 {
-						push(idx, best, second, i, j, norm2[j]-2*r[l])
-					}
-				}
+}
+
+// best2RowGeneric is the pure-Go Best2Row: one panel of centers at a time,
+// eight dot products side by side.
+func best2RowGeneric(x []float64, c, norm2 []float64, k, exclude int) (j int, best, second float64) {
+	d := len(x)
+	checkBest2Row(d, len(c), len(norm2), k)
+	var idx [1]int
+	b, s := [1]float64{inf}, [1]float64{inf}
+	for p := 0; p*Panel < k; p++ {
+		panel := c[p*Panel*d : (p+1)*Panel*d]
+		var s0, s1, s2, s3, s4, s5, s6, s7 float64
+		q := panel
+		for _, a := range x {
+			s0 += a * q[0]
+			s1 += a * q[1]
+			s2 += a * q[2]
+			s3 += a * q[3]
+			s4 += a * q[4]
+			s5 += a * q[5]
+			s6 += a * q[6]
+			s7 += a * q[7]
+			if len(q) > Panel {
+				q = q[Panel:]
+			}
+		}
+		r := [Panel]float64{s0, s1, s2, s3, s4, s5, s6, s7}
+		for l, v := range r {
+			if jj := p*Panel + l; jj < k && jj != exclude {
+				push(idx[:], b[:], s[:], 0, jj, norm2[jj]-2*v)
 			}
 		}
 	}
+	return idx[0], b[0], s[0]
 }
 
 // checkBest2 panics unless the lengths suit Best2.
@@ -111,7 +157,17 @@ func checkBest2(m, nBest, nSecond, nx, d, nc, nNorm, j0, j1 int) {
 	if j0 < 0 || j1 < j0 || d < 1 {
 		panic(panicRange)
 	}
-	if nBest < m || nSecond < m || nx < m*d || (j1 > j0 && (nc < PackedLen(j1, d) || nNorm < PackedLen(j1, 1))) {
+	if nBest < m || nSecond < m || nx < PackedLen(m, d) || nc < j1*d || nNorm < j1 {
+		panic(panicShort)
+	}
+}
+
+// checkBest2Row panics unless the lengths suit Best2Row.
+func checkBest2Row(d, nc, nNorm, k int) {
+	if d < 1 || k < 1 {
+		panic(panicRange)
+	}
+	if nc < PackedLen(k, d) || nNorm < PackedLen(k, 1) {
 		panic(panicShort)
 	}
 }

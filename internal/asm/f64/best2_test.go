@@ -11,38 +11,33 @@ import (
 
 type best2Func func(idx []int, best, second, x []float64, d int, c, norm2 []float64, j0, j1 int)
 
+type best2RowFunc func(x []float64, c, norm2 []float64, k, exclude int) (int, float64, float64)
+
 // kernel is one implementation of Best2 under test.
 type kernel struct {
 	name string
 	fn   best2Func
+	row  best2RowFunc
 }
 
-// pack lays out k centers (k×d row-major) in panels, filling the lanes of
-// the last panel beyond k with fill, and returns the packed centers and
-// their squared norms (padded lanes fill too).
-func pack(cs []float64, k, d int, fill float64) (c, norm2 []float64) {
-	c = make([]float64, PackedLen(k, d))
-	norm2 = make([]float64, PackedLen(k, 1))
-	for i := range c {
-		c[i] = fill
-	}
-	for i := range norm2 {
-		norm2[i] = fill
-	}
-	for j := range k {
-		var n float64
-		for t := range d {
-			v := cs[j*d+t]
-			c[j/Panel*Panel*d+t*Panel+j%Panel] = v
-			n += v * v
+// norms returns the squared norms of the k×d row-major centers, in a
+// slice of length n ≥ k whose entries beyond k are fill.
+func norms(cs []float64, k, d, n int, fill float64) []float64 {
+	norm2 := make([]float64, n)
+	for j := range norm2 {
+		norm2[j] = fill
+		if j < k {
+			norm2[j] = 0
+			for _, v := range cs[j*d : (j+1)*d] {
+				norm2[j] += v * v
+			}
 		}
-		norm2[j] = n
 	}
-	return c, norm2
+	return norm2
 }
 
-// reference is the loop in Best2's documentation, on the row-major centers,
-// with the dot products summed in index order. It also returns, per row, a
+// reference is the loop in Best2's documentation, on row-major rows and
+// centers, with the dot products summed in index order. It also returns, per row, a
 // bound on how far any order of summation can move a value: 4·(d+2)·2⁻⁵³
 // times |norm2| + 2·Σ|x·c| (Higham 2002, §3.1), maximised over the centers.
 func reference(idx []int, best, second, x []float64, d int, cs, norm2 []float64, j0, j1 int) (tol []float64) {
@@ -74,20 +69,21 @@ type problem struct {
 	exact           bool      // integer data: every order gives the same bits
 }
 
-// check runs kernel f on p with guard regions (NaN after every output and
-// after x, NaN in the padded lanes of c and norm2, and centers outside
-// [j0, j1) that would win if they were read as in range) and compares it
-// with the reference.
+// check runs kernel f on p with guard regions (NaN after every output,
+// NaN in the padded lanes of the packed rows, centers outside [j0, j1)
+// that would win if they were read as in range, NaN norms after j1) and
+// compares it with the reference.
 func check(t *testing.T, f best2Func, p problem) {
 	t.Helper()
 	const pad = 5
-	c, norm2 := pack(p.cs, p.k, p.d, math.NaN())
+	norm2 := norms(p.cs, p.k, p.d, p.k+pad, math.NaN())
 	for j := range p.k {
 		if j < p.j0 || j >= p.j1 {
 			norm2[j] = -math.MaxFloat64 // would win everything
 		}
 	}
-	x := append(append([]float64(nil), p.x[:p.m*p.d]...), math.NaN(), math.NaN())
+	x := Pack(make([]float64, PackedLen(p.m, p.d)), p.x, p.m, p.d, math.NaN())
+	cs := append(append([]float64(nil), p.cs[:p.j1*p.d]...), math.NaN(), math.NaN())
 	idx := make([]int, p.m+pad)
 	best := make([]float64, p.m+pad)
 	second := make([]float64, p.m+pad)
@@ -103,14 +99,22 @@ func check(t *testing.T, f best2Func, p problem) {
 	for i := range wIdx {
 		wIdx[i], wBest[i], wSecond[i] = -7, math.Inf(1), math.Inf(1)
 	}
-	f(idx[:p.m], best[:p.m], second[:p.m], x[:p.m*p.d], p.d, c, norm2, p.j0, p.j1)
+	f(idx[:p.m], best[:p.m], second[:p.m], x, p.d, cs[:p.j1*p.d], norm2[:p.j1], p.j0, p.j1)
 	tol := reference(wIdx, wBest, wSecond, p.x, p.d, p.cs, norm2, p.j0, p.j1)
 	for i := p.m; i < p.m+pad; i++ {
 		require.Equal(t, -7, idx[i], "wrote idx past m")
 		require.True(t, math.IsNaN(best[i]) && math.IsNaN(second[i]), "wrote best/second past m")
 	}
-	for i := range p.m {
-		if p.exact {
+	compare(t, p.exact, wIdx, wBest, wSecond, tol, idx[:p.m], best[:p.m], second[:p.m])
+}
+
+// compare checks kernel results against the reference: bit for bit on
+// exact data, within tol (and the same index where the reference's two
+// best are more than 2·tol apart) otherwise.
+func compare(t *testing.T, exact bool, wIdx []int, wBest, wSecond, tol []float64, idx []int, best, second []float64) {
+	t.Helper()
+	for i := range idx {
+		if exact {
 			require.Equal(t, wIdx[i], idx[i], "row %d", i)
 			require.Equal(t, wBest[i], best[i], "row %d", i)
 			require.Equal(t, wSecond[i], second[i], "row %d", i)
@@ -125,6 +129,26 @@ func check(t *testing.T, f best2Func, p problem) {
 		if wSecond[i]-wBest[i] > 2*tol[i] {
 			require.Equal(t, wIdx[i], idx[i], "row %d", i)
 		}
+	}
+}
+
+// checkRow runs the one-row kernel f for every row of p (centers [0, k),
+// the center exclude skipped) with NaN in the padded lanes of the packed
+// centers and norms, and compares it with the reference.
+func checkRow(t *testing.T, f best2RowFunc, p problem, exclude int) {
+	t.Helper()
+	c := Pack(make([]float64, PackedLen(p.k, p.d)), p.cs, p.k, p.d, math.NaN())
+	norm2 := norms(p.cs, p.k, p.d, PackedLen(p.k, 1), math.NaN())
+	ref := append([]float64(nil), norm2[:p.k]...)
+	if exclude >= 0 {
+		ref[exclude] = math.Inf(1)
+	}
+	for i := range p.m {
+		x := p.x[i*p.d : (i+1)*p.d]
+		wIdx, wBest, wSecond := []int{0}, []float64{math.Inf(1)}, []float64{math.Inf(1)}
+		tol := reference(wIdx, wBest, wSecond, x, p.d, p.cs, ref, 0, p.k)
+		j, b, s := f(x, c, norm2, p.k, exclude)
+		compare(t, p.exact, wIdx, wBest, wSecond, tol, []int{j}, []float64{b}, []float64{s})
 	}
 }
 
@@ -166,14 +190,20 @@ func TestBest2(t *testing.T) {
 			for d := 1; d <= 40; d++ {
 				for k := 1; k <= 40; k++ {
 					m := 1 + rnd.IntN(19)
-					check(t, kn.fn, randomProblem(rnd, m, k, d, 1, (d+k)%3 == 0))
+					p := randomProblem(rnd, m, k, d, 1, (d+k)%3 == 0)
+					check(t, kn.fn, p)
+					checkRow(t, kn.row, p, rnd.IntN(k+1)-1)
 				}
 			}
 			for _, s := range [][3]int{{37, 131, 67}, {101, 77, 129}, {9, 257, 3}, {64, 64, 32}, {17, 300, 1}} {
 				for _, scale := range []float64{1, 1e100, 1e-150} {
-					check(t, kn.fn, randomProblem(rnd, s[0], s[1], s[2], scale, false))
+					p := randomProblem(rnd, s[0], s[1], s[2], scale, false)
+					check(t, kn.fn, p)
+					checkRow(t, kn.row, p, -1)
 				}
-				check(t, kn.fn, randomProblem(rnd, s[0], s[1], s[2], 1, true))
+				p := randomProblem(rnd, s[0], s[1], s[2], 1, true)
+				check(t, kn.fn, p)
+				checkRow(t, kn.row, p, s[1]/2)
 			}
 		})
 	}
@@ -201,6 +231,7 @@ func TestBest2NearTies(t *testing.T) {
 				}
 				p.j1 = k
 				check(t, kn.fn, p)
+				checkRow(t, kn.row, p, -1)
 			}
 		})
 	}
@@ -212,14 +243,15 @@ func TestBest2Continue(t *testing.T) {
 	for _, kn := range kernels() {
 		rnd := rand.New(rand.NewPCG(3, 3))
 		p := randomProblem(rnd, 13, 45, 7, 1, true)
-		c, norm2 := pack(p.cs, p.k, p.d, 0)
+		x := Pack(make([]float64, PackedLen(p.m, p.d)), p.x, p.m, p.d, 0)
+		norm2 := norms(p.cs, p.k, p.d, p.k, 0)
 		run := func(cuts ...int) ([]int, []float64, []float64) {
 			idx, best, second := make([]int, p.m), make([]float64, p.m), make([]float64, p.m)
 			for i := range best {
 				best[i], second[i] = math.Inf(1), math.Inf(1)
 			}
 			for q := 0; q+1 < len(cuts); q++ {
-				kn.fn(idx, best, second, p.x, p.d, c, norm2, cuts[q], cuts[q+1])
+				kn.fn(idx, best, second, x, p.d, p.cs, norm2, cuts[q], cuts[q+1])
 			}
 			return idx, best, second
 		}
@@ -232,20 +264,45 @@ func TestBest2Continue(t *testing.T) {
 }
 
 func TestBest2Panics(t *testing.T) {
-	c, n := pack(make([]float64, 6), 3, 2, 0)
-	x := make([]float64, 4)
+	c, n := make([]float64, 6), make([]float64, 3)
+	x := make([]float64, PackedLen(2, 2))
 	ok := func() { Best2(make([]int, 2), make([]float64, 2), make([]float64, 2), x, 2, c, n, 0, 3) }
 	require.NotPanics(t, ok)
 	for name, f := range map[string]func(){
 		"best":   func() { Best2(make([]int, 2), make([]float64, 1), make([]float64, 2), x, 2, c, n, 0, 3) },
 		"second": func() { Best2(make([]int, 2), make([]float64, 2), make([]float64, 1), x, 2, c, n, 0, 3) },
-		"x":      func() { Best2(make([]int, 2), make([]float64, 2), make([]float64, 2), x[:3], 2, c, n, 0, 3) },
-		"c":      func() { Best2(make([]int, 2), make([]float64, 2), make([]float64, 2), x, 2, c[:15], n, 0, 3) },
-		"norm2":  func() { Best2(make([]int, 2), make([]float64, 2), make([]float64, 2), x, 2, c, n[:7], 0, 3) },
+		"x":      func() { Best2(make([]int, 2), make([]float64, 2), make([]float64, 2), x[:15], 2, c, n, 0, 3) },
+		"c":      func() { Best2(make([]int, 2), make([]float64, 2), make([]float64, 2), x, 2, c[:5], n, 0, 3) },
+		"norm2":  func() { Best2(make([]int, 2), make([]float64, 2), make([]float64, 2), x, 2, c, n[:2], 0, 3) },
 		"range":  func() { Best2(make([]int, 2), make([]float64, 2), make([]float64, 2), x, 2, c, n, 2, 1) },
 		"d":      func() { Best2(make([]int, 2), make([]float64, 2), make([]float64, 2), x, 0, c, n, 0, 3) },
+		"row c":  func() { Best2Row(make([]float64, 2), c, make([]float64, 8), 3, -1) },
+		"row n":  func() { Best2Row(make([]float64, 2), x, n, 3, -1) },
+		"row k":  func() { Best2Row(make([]float64, 2), x, make([]float64, 8), 0, -1) },
+		"pack":   func() { Pack(make([]float64, 15), make([]float64, 4), 2, 2, 0) },
 	} {
 		require.Panics(t, f, name)
+	}
+	require.NotPanics(t, func() { Best2Row(make([]float64, 2), x, make([]float64, 8), 3, -1) })
+}
+
+// TestPack: the packed layout puts element t of row i at
+// i/Panel·Panel·d + t·Panel + i%Panel and pads the last panel.
+func TestPack(t *testing.T) {
+	src := make([]float64, 11*3)
+	for i := range src {
+		src[i] = float64(i)
+	}
+	dst := Pack(make([]float64, PackedLen(11, 3)), src, 11, 3, -1)
+	require.Len(t, dst, 2*Panel*3)
+	for i := range 16 {
+		for q := range 3 {
+			want := -1.0
+			if i < 11 {
+				want = src[i*3+q]
+			}
+			require.Equal(t, want, dst[i/Panel*Panel*3+q*Panel+i%Panel])
+		}
 	}
 }
 
@@ -263,6 +320,7 @@ func FuzzBest2(f *testing.F) {
 		p.j1 = p.j0 + int(j1)%(kk-p.j0+1)
 		for _, kn := range kernels() {
 			check(t, kn.fn, p)
+			checkRow(t, kn.row, p, int(j0)%(kk+1)-1)
 		}
 	})
 }
@@ -272,21 +330,43 @@ func FuzzBest2(f *testing.F) {
 func benchmarkBest2(b *testing.B, f best2Func, m, d, k int) {
 	rnd := rand.New(rand.NewPCG(1, 1))
 	p := randomProblem(rnd, m, k, d, 1, false)
-	c, norm2 := pack(p.cs, k, d, 0)
+	x := Pack(make([]float64, PackedLen(m, d)), p.x, m, d, 0)
+	norm2 := norms(p.cs, k, d, k, 0)
 	idx, best, second := make([]int, m), make([]float64, m), make([]float64, m)
 	b.ReportAllocs()
 	for b.Loop() {
 		for i := range best {
 			best[i], second[i] = math.Inf(1), math.Inf(1)
 		}
-		f(idx, best, second, p.x, d, c, norm2, 0, k)
+		f(idx, best, second, x, d, p.cs, norm2, 0, k)
 	}
 	b.ReportMetric(2*float64(m*d*k)*float64(b.N)/b.Elapsed().Seconds()/1e9, "GFLOP/s")
 }
 
+// BenchmarkBest2Row times Best2Row on rotating rows against all k centers.
+func BenchmarkBest2Row(b *testing.B) {
+	for _, kn := range kernels() {
+		for _, s := range [][2]int{{2, 8}, {16, 32}, {64, 256}} {
+			d, k := s[0], s[1]
+			b.Run(fmt.Sprintf("%s/d=%d/k=%d", kn.name, d, k), func(b *testing.B) {
+				rnd := rand.New(rand.NewPCG(1, 1))
+				p := randomProblem(rnd, 64, k, d, 1, false)
+				c := Pack(make([]float64, PackedLen(k, d)), p.cs, k, d, 0)
+				norm2 := norms(p.cs, k, d, PackedLen(k, 1), math.Inf(1))
+				var sink int
+				for i := 0; b.Loop(); i++ {
+					j, _, _ := kn.row(p.x[i%64*d:(i%64+1)*d], c, norm2, k, -1)
+					sink += j
+				}
+				_ = sink
+			})
+		}
+	}
+}
+
 func BenchmarkBest2(b *testing.B) {
 	for _, kn := range kernels() {
-		for _, s := range [][3]int{{256, 2, 8}, {256, 16, 64}, {256, 32, 64}, {256, 64, 256}, {1, 16, 32}} {
+		for _, s := range [][3]int{{256, 2, 8}, {256, 16, 64}, {256, 32, 64}, {256, 64, 256}} {
 			b.Run(fmt.Sprintf("%s/m=%d/d=%d/k=%d", kn.name, s[0], s[1], s[2]), func(b *testing.B) { benchmarkBest2(b, kn.fn, s[0], s[1], s[2]) })
 		}
 	}

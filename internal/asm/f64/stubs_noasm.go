@@ -2,17 +2,16 @@
 
 package f64
 
-// Best2 updates, for each of the m = len(idx) rows x_i of x (row-major, d
-// columns), the two smallest values of norm2[j] − 2·x_i·c_j over the
-// centers j0 ≤ j < j1 of the packed set c, and the index j of the
-// smallest. It is
+// Best2 updates, for each of the m = len(idx) rows x_i of x (packed in
+// panels of Panel rows, see Pack), the two smallest values of
+// norm2[j] − 2·x_i·c_j over the centers j0 ≤ j < j1 of c (row-major, d
+// columns), and the index j of the smallest. It is
 //
 //	for i := range idx {
-//		xi := x[i*d : (i+1)*d]
 //		for j := j0; j < j1; j++ {
 //			var dot float64
-//			for t, v := range xi {
-//				dot += v * c[j/Panel*Panel*d+t*Panel+j%Panel]
+//			for t, v := range c[j*d : (j+1)*d] {
+//				dot += x[i/Panel*Panel*d+t*Panel+i%Panel] * v
 //			}
 //			v := norm2[j] - 2*dot
 //			if v < best[i] {
@@ -25,18 +24,30 @@ package f64
 //
 // except that the dot products may be summed in any order and with fused
 // multiply-adds (see nearest.Centers for the rounding bound this allows).
-// Panel p of c holds centers p·Panel … p·Panel+Panel−1, coordinate by
-// coordinate: element t of center j is c[p·Panel·d + t·Panel + j−p·Panel].
-// Lanes of a panel outside [j0, j1) are read but never recorded. Initialise
-// best and second to +Inf to start a search; calls over consecutive ranges
-// of centers continue it. On equal values the earlier index stays best, and
-// the second best then equals the best; NaN values are never recorded.
+// Lanes of the last panel of x beyond m are read but never written back.
+// Initialise best and second to +Inf to start a search; calls over
+// consecutive ranges of centers continue it. On equal values the earlier
+// index stays best, and the second best then equals the best; NaN values
+// are never recorded.
 //
 // It panics if j0 < 0, j1 < j0, d < 1, len(best) or len(second) < m,
-// len(x) < m·d, or (for j1 > j0) len(c) < PackedLen(j1, d) or
-// len(norm2) < PackedLen(j1, 1).
+// len(x) < PackedLen(m, d), len(c) < j1·d or len(norm2) < j1.
 func Best2(idx []int, best, second, x []float64, d int, c, norm2 []float64, j0, j1 int) {
 	best2Generic(idx, best, second, x, d, c, norm2, j0, j1)
+}
+
+// Best2Row returns, for the one row x (d = len(x) values), the two
+// smallest values of norm2[j] − 2·x·c_j over the k centers of c (packed in
+// panels, see Pack) other than exclude, and the index of the smallest. It
+// is Best2's loop for one row with the roles of the layout swapped: the
+// centers are packed, so that one panel of centers is one vector. Pass
+// exclude = −1 to search all centers. best and second are +Inf (and j is
+// 0) when no value is below +Inf.
+//
+// It panics if d < 1, k < 1, len(c) < PackedLen(k, d) or
+// len(norm2) < PackedLen(k, 1).
+func Best2Row(x []float64, c, norm2 []float64, k, exclude int) (j int, best, second float64) {
+	return best2RowGeneric(x, c, norm2, k, exclude)
 }
 
 // Kernel names the implementation Best2 runs: "go", the pure-Go code.
