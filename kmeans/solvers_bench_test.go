@@ -7,6 +7,7 @@ import (
 
 	"github.com/centroidlab/centroid/internal/data/reference"
 	"github.com/centroidlab/centroid/internal/data/synth"
+	"github.com/centroidlab/centroid/seeding"
 	"gonum.org/v1/gonum/mat"
 )
 
@@ -99,4 +100,33 @@ func digits(n int) int {
 		e++
 	}
 	return e
+}
+
+// BenchmarkLloydPass times ten Lloyd passes from the same k-means++ start
+// on n = 10⁵ rows of the 50-blob mixture, one worker, and reports the
+// pass rate in GFLOP/s-equivalent (2·n·d·k per pass, the products the
+// assignment needs).
+func BenchmarkLloydPass(b *testing.B) {
+	for _, s := range []struct{ d, k int }{{16, 64}, {32, 64}, {64, 256}} {
+		b.Run(fmt.Sprintf("d=%d/k=%d", s.d, s.k), func(b *testing.B) {
+			const n, passes = 100000, 10
+			x := synth.Blobs(n, s.d, synth.GridClusters, 1)
+			start := mat.NewDense(s.k, s.d, nil)
+			for j := range s.k {
+				start.SetRow(j, x.RawRowView(j*(n/s.k)))
+			}
+			p := Problem{Data: x, K: s.k, Seeder: seeding.Given{Centers: start}}
+			set := &Settings{Restarts: 1, Seed: 1, MaxIterations: passes, Workers: 1}
+			b.ReportAllocs()
+			var res *Result
+			for b.Loop() {
+				var err error
+				if res, err = Cluster(context.Background(), p, set, Lloyd{}); err != nil {
+					b.Fatal(err)
+				}
+			}
+			b.ReportMetric(2*float64(n*s.d*s.k)*float64(res.Iterations)*float64(b.N)/b.Elapsed().Seconds()/1e9, "GFLOP/s")
+			b.ReportMetric(float64(res.Iterations), "passes")
+		})
+	}
 }

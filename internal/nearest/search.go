@@ -20,7 +20,7 @@ type Searcher struct {
 	m            int
 }
 
-// load copies the m rows of x (m×c.d row-major) minus c.shift into s.x and
+// load packs the m rows of x (m×c.d row-major) minus c.shift into s.x and
 // computes r2 and slack.
 func (s *Searcher) load(x []float64, m int, c *Centers) {
 	d := c.d
@@ -31,22 +31,8 @@ func (s *Searcher) load(x []float64, m int, c *Centers) {
 	s.idx = growInt(s.idx, m)
 	s.best = grow(s.best, m)
 	s.second = grow(s.second, m)
-	shift := c.shift[:d]
-	for i := m; i < (m+f64.Panel-1)/f64.Panel*f64.Panel; i++ { // padded lanes
-		for t := range d {
-			s.x[i/f64.Panel*f64.Panel*d+t*f64.Panel+i%f64.Panel] = 0
-		}
-	}
-	for i := range m {
-		src := x[i*d : (i+1)*d][:len(shift)]
-		dst := s.x[i/f64.Panel*f64.Panel*d+i%f64.Panel:]
-		var r2 float64
-		for t, v := range src {
-			w := v - shift[t]
-			dst[t*f64.Panel] = w
-			r2 += w * w
-		}
-		s.r2[i] = r2
+	f64.PackShift(s.x, s.r2, x, c.shift[:d], m)
+	for i, r2 := range s.r2[:m] {
 		s.slack[i] = c.round.Slack(math.Sqrt(r2), c.maxNorm)
 	}
 }

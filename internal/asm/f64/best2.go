@@ -184,3 +184,35 @@ func push(idx []int, best, second []float64, i, j int, v float64) {
 		}
 	}
 }
+
+// packShiftGeneric is the pure-Go PackShift for rows lo ≤ i < m; it also
+// zeroes the padded lanes of the last panel.
+func packShiftGeneric(dst, r2, x, shift []float64, lo, m int) {
+	d := len(shift)
+	for i := m; i < (m+Panel-1)/Panel*Panel; i++ {
+		for t := range d {
+			dst[i/Panel*Panel*d+t*Panel+i%Panel] = 0
+		}
+	}
+	for i := lo; i < m; i++ {
+		src := x[i*d : (i+1)*d][:len(shift)]
+		out := dst[i/Panel*Panel*d+i%Panel:]
+		var s float64
+		for t, v := range src {
+			w := v - shift[t]
+			out[t*Panel] = w
+			s += w * w
+		}
+		r2[i] = s
+	}
+}
+
+// checkPackShift panics unless the lengths suit PackShift.
+func checkPackShift(nDst, nR2, nx, d, m int) {
+	if d < 1 || m < 0 {
+		panic(panicRange)
+	}
+	if nDst < PackedLen(m, d) || nR2 < m || nx < m*d {
+		panic(panicShort)
+	}
+}

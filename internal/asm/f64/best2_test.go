@@ -371,3 +371,50 @@ func BenchmarkBest2(b *testing.B) {
 		}
 	}
 }
+
+// TestPackShift: PackShift equals Pack of the shifted rows, with squared
+// norms within rounding of the sequential sum, on every d from 1 to 40
+// and row counts around panel boundaries; dst and r2 are guarded.
+func TestPackShift(t *testing.T) {
+	rnd := rand.New(rand.NewPCG(4, 4))
+	for d := 1; d <= 40; d++ {
+		for _, m := range []int{0, 1, 7, 8, 9, 16, 23, 40} {
+			x := make([]float64, m*d)
+			shift := make([]float64, d)
+			for i := range x {
+				x[i] = rnd.NormFloat64() * 100
+			}
+			for i := range shift {
+				shift[i] = rnd.NormFloat64()
+			}
+			sx := make([]float64, m*d)
+			want := make([]float64, m)
+			for i := range m {
+				for q := range d {
+					sx[i*d+q] = x[i*d+q] - shift[q]
+					want[i] += sx[i*d+q] * sx[i*d+q]
+				}
+			}
+			n := PackedLen(m, d)
+			dst := make([]float64, n+3)
+			r2 := make([]float64, m+3)
+			for i := range dst {
+				dst[i] = math.NaN()
+			}
+			for i := range r2 {
+				r2[i] = math.NaN()
+			}
+			got := PackShift(dst[:n], r2[:m], x, shift, m)
+			require.Equal(t, Pack(make([]float64, n), sx, m, d, 0), got, "d=%d m=%d", d, m)
+			for i := range m {
+				require.InDelta(t, want[i], r2[i], float64(2*d)*0x1p-53*want[i], "d=%d m=%d row %d", d, m, i)
+			}
+			for i := n; i < n+3; i++ {
+				require.True(t, math.IsNaN(dst[i]), "wrote past dst")
+			}
+			for i := m; i < m+3; i++ {
+				require.True(t, math.IsNaN(r2[i]), "wrote past r2")
+			}
+		}
+	}
+}

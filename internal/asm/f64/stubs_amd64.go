@@ -92,6 +92,26 @@ func best2RowAVX2(x *float64, d int, c, norm2 *float64, k, exclude int) (j int, 
 //go:noescape
 func fmaLoopAVX2(n int)
 
+//go:noescape
+func packShiftAVX512(dst, r2, x, shift *float64, panels, d int)
+
+// PackShift writes the m rows of x (m×d row-major, d = len(shift)) minus
+// shift into dst in the packed layout of Pack (padded lanes zero), and
+// each row's squared norm ‖x_i − shift‖² (summed in any order) into r2. It
+// returns dst. It panics if len(shift) < 1, len(dst) < PackedLen(m, d),
+// len(r2) < m or len(x) < m·d.
+func PackShift(dst, r2, x, shift []float64, m int) []float64 {
+	d := len(shift)
+	checkPackShift(len(dst), len(r2), len(x), d, m)
+	lo := 0
+	if hasAVX512 && m >= Panel {
+		packShiftAVX512(&dst[0], &r2[0], &x[0], &shift[0], m/Panel, d)
+		lo = m / Panel * Panel
+	}
+	packShiftGeneric(dst, r2, x, shift, lo, m)
+	return dst[:PackedLen(m, d)]
+}
+
 // Kernel names the implementation Best2 runs: "go" for the pure-Go code,
 // "avx2" or "avx512" for the assembly chosen from the processor's features.
 func Kernel() string {

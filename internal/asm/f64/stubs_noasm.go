@@ -50,5 +50,16 @@ func Best2Row(x []float64, c, norm2 []float64, k, exclude int) (j int, best, sec
 	return best2RowGeneric(x, c, norm2, k, exclude)
 }
 
+// PackShift writes the m rows of x (m×d row-major, d = len(shift)) minus
+// shift into dst in the packed layout of Pack (padded lanes zero), and
+// each row's squared norm ‖x_i − shift‖² (summed in any order) into r2. It
+// returns dst. It panics if len(shift) < 1, len(dst) < PackedLen(m, d),
+// len(r2) < m or len(x) < m·d.
+func PackShift(dst, r2, x, shift []float64, m int) []float64 {
+	checkPackShift(len(dst), len(r2), len(x), len(shift), m)
+	packShiftGeneric(dst, r2, x, shift, 0, m)
+	return dst[:PackedLen(m, len(shift))]
+}
+
 // Kernel names the implementation Best2 runs: "go", the pure-Go code.
 func Kernel() string { return "go" }

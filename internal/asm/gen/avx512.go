@@ -24,6 +24,7 @@ func avx512(a *asm) {
 	a.p("GLOBL eight512<>(SB), RODATA|NOPTR, $8")
 	best2AVX512(a)
 	best2RowAVX512(a)
+	packShiftAVX512(a)
 	fmaLoop(a, "fmaLoopAVX512", z, "VPXORQ", 12)
 }
 
