@@ -62,8 +62,8 @@ func packShiftAVX512(a *asm) {
 	for half := range 2 {
 		b := 8 + 4*half // pair (0,1) or (4,5): lo at b, hi at b+1; next pair at b+2, b+3
 		u := 16 + 4*half
-		a.i("VSHUFF64X2 $0x88, %s, %s, %s", z(b+2), z(b), z(u))   // coordinates 0, 4 (lo)
-		a.i("VSHUFF64X2 $0xDD, %s, %s, %s", z(b+2), z(b), z(u+1)) // coordinates 2, 6
+		a.i("VSHUFF64X2 $0x88, %s, %s, %s", z(b+2), z(b), z(u))     // coordinates 0, 4 (lo)
+		a.i("VSHUFF64X2 $0xDD, %s, %s, %s", z(b+2), z(b), z(u+1))   // coordinates 2, 6
 		a.i("VSHUFF64X2 $0x88, %s, %s, %s", z(b+3), z(b+1), z(u+2)) // 1, 5
 		a.i("VSHUFF64X2 $0xDD, %s, %s, %s", z(b+3), z(b+1), z(u+3)) // 3, 7
 	}
