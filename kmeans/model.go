@@ -231,8 +231,11 @@ type Assignment struct {
 // ±Inf (or scales to ±Inf), ErrMetric if the metric rejects the scaled row
 // (a zero row under Cosine), or ErrModel for a zero Model.
 //
-// Every center is measured with exactly the arithmetic of the metric's
-// Loss, so the answer is the one Cluster's assignment gives, bit for bit.
+// The answer is the one Cluster's assignment gives, bit for bit: under
+// Euclidean a vector kernel finds the nearest center (see
+// internal/nearest.Set) and is trusted only when no other center is within
+// its rounding bound, otherwise, and under Manhattan, every center is
+// measured with exactly the arithmetic of the metric's Loss.
 func (m *Model) Nearest(x []float64) (int, float64, error) {
 	j, loss, _, err := m.locate(x, false)
 	if err != nil {

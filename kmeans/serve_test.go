@@ -172,6 +172,35 @@ func TestSearchScaled(t *testing.T) {
 	}
 }
 
+// TestServeTrainingRows: on well-separated and on overlapping clusters,
+// Nearest and Assign return every training row's Result.Assignments, with
+// the distance bits of distance.SqEuclidean (the argmin Lloyd's direct
+// recheck defines), with and without a z-score scaler.
+func TestServeTrainingRows(t *testing.T) {
+	for _, sd := range []float64{1, 20} {
+		for _, sc := range []scale.Scaler{nil, &scale.ZScore{}} {
+			x := spreadBlobs(3000, 16, 32, sd, 6)
+			res, err := Cluster(context.Background(), Problem{Data: x, K: 32, Scaler: sc}, &Settings{Restarts: 1, Seed: 2}, Lloyd{})
+			require.NoError(t, err)
+			m := res.Model
+			for i := range 3000 {
+				row := x.RawRowView(i)
+				j, dist, err := m.Nearest(row)
+				require.NoError(t, err)
+				require.Equal(t, res.Assignments[i], j, "sd %v row %d", sd, i)
+				z := append([]float64(nil), row...)
+				if m.scaler != nil {
+					m.scaler.Apply(z, row)
+				}
+				require.Equal(t, math.Sqrt(distance.SqEuclidean(z, m.centers[j*16:(j+1)*16])), dist, "row %d", i)
+				a, err := m.Assign(row)
+				require.NoError(t, err)
+				require.Equal(t, scanAssign(distance.Euclidean{}, m.scaler, m.centers, 32, row), a, "row %d", i)
+			}
+		}
+	}
+}
+
 // TestServeLargeK: a model with many centers (as a document may carry)
 // answers exactly as a brute-force scan, under both metrics the serving
 // search handles.

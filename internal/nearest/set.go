@@ -24,19 +24,26 @@ const (
 )
 
 // Set is k centers of dimension d prepared for the search of one row at a
-// time, as a served model answers it. Its losses are computed with exactly
-// the operations, in exactly the order, of the distance package's function
-// for the loss, so that the nearest center and its loss are bit for bit
-// those of a direct scan (and of training, which uses the same functions).
-// A Set is read-only and safe for concurrent use.
+// time, as a served model answers it. Its answers are bit for bit those of
+// a direct scan with the distance package's function for the loss (and so
+// of training, which uses the same functions): the nearest center, the
+// lowest index on ties, its loss and the runner-up's loss. A Set is
+// read-only and safe for concurrent use; its searches allocate nothing.
 //
-// The search is a plain scan of every center, four centers at a time: each
-// center's sum keeps its own accumulators in the metric function's order,
-// and the four sums interleave, so that the processor overlaps them. The
-// benchmarks of kmeans (BenchmarkServeVariants) compare it with the pruned
-// searches it replaced: projection order, center–center skips and early
-// abandon lost on overlapping clusters and gained little on separated
-// ones.
+// Under SquaredEuclidean, where an assembly kernel exists (f64.Kernel is
+// not "go"), the search runs f64.Best2Row on the centers shifted by their
+// mean and accepts its answer when the best value beats the runner-up by
+// more than twice the rounding slack of Centers (for the runner-up's loss,
+// a second call that excludes the best center); the losses it returns are
+// then computed directly. Otherwise, and for the rare rows whose answer
+// is not certain, it scans: every center measured with the metric
+// function's own operations, four centers interleaved so that the
+// processor overlaps them.
+//
+// The pruned searches that the scan replaced (projection order,
+// center–center skips and early abandon) lost to it on overlapping
+// clusters and gained on separated ones only; kmeans'
+// BenchmarkServeVariants keeps the comparison.
 type Set struct {
 	k, d int
 	loss Loss
@@ -49,9 +56,8 @@ type Set struct {
 	round                Rounding
 }
 
-// maxKernelDim is the largest dimension the kernel path serves (its
-// shifted row lives on the stack).
-const maxKernelDim = 256
+// maxKernelDim is the largest dimension the kernel path serves.
+const maxKernelDim = 1 << 16
 
 // NewSet returns the Set of the k×d centers c (row-major, not copied: c
 // must not be modified while the Set is in use). It panics if k < 1, d < 1,
@@ -95,59 +101,30 @@ func (s *Set) search(z []float64, wantSecond bool) (int, float64, float64) {
 		panic("nearest: row length differs from the Set's dimension")
 	}
 	if s.packed != nil {
-		var ok bool
-		var j int
-		var l, l2 float64
-		switch {
-		case s.d <= 16:
-			var buf [16]float64
-			j, l, l2, ok = s.kernel(buf[:s.d], z, wantSecond)
-		case s.d <= 64:
-			var buf [64]float64
-			j, l, l2, ok = s.kernel(buf[:s.d], z, wantSecond)
-		default:
-			var buf [maxKernelDim]float64
-			j, l, l2, ok = s.kernel(buf[:s.d], z, wantSecond)
-		}
-		if ok {
+		if j, l, l2, ok := s.kernel(z, wantSecond); ok {
 			return j, l, l2
 		}
 	}
 	return s.scan(z)
 }
 
-// kernel searches with f64.Best2Row on the shifted row (written into x)
-// and reports whether the kernel's answer is certain: the best value (and,
-// if wantSecond, the best among the other centers) beats the next by more
-// than twice the rounding slack, so that the direct losses order the same
-// way (see Centers). The losses returned are then computed directly, with
-// the distance package's arithmetic. When the answer is not certain the
+// kernel searches with f64.Best2Row on the shifted row and reports
+// whether its answer is certain: the best value (and, if wantSecond, the
+// best among the other centers) beats the next by more than twice the
+// rounding slack, so that the direct losses order the same way (see
+// Centers). The losses returned are then computed directly, with the
+// distance package's arithmetic. When the answer is not certain the
 // caller scans.
-func (s *Set) kernel(x, z []float64, wantSecond bool) (int, float64, float64, bool) {
-	shift := s.shift[:len(x)]
-	z = z[:len(x)]
-	var r0, r1 float64
-	t := 0
-	for ; t+1 < len(x); t += 2 {
-		a, b := z[t]-shift[t], z[t+1]-shift[t+1]
-		x[t], x[t+1] = a, b
-		r0 += a * a
-		r1 += b * b
-	}
-	if t < len(x) {
-		a := z[t] - shift[t]
-		x[t] = a
-		r0 += a * a
-	}
-	slack2 := 2 * s.round.Slack(math.Sqrt(r0+r1), s.maxNorm)
-	j, v1, v2 := f64.Best2Row(x, s.packed, s.norm2, s.k, -1)
+func (s *Set) kernel(z []float64, wantSecond bool) (int, float64, float64, bool) {
+	j, v1, v2, r2 := f64.Best2Row(z, s.shift, s.packed, s.norm2, s.k, -1)
+	slack2 := 2 * s.round.Slack(math.Sqrt(r2), s.maxNorm)
 	if !(v2-v1 > slack2) {
 		return 0, 0, 0, false
 	}
 	d := s.d
 	loss, second := sq1(z, s.c[j*d:(j+1)*d]), math.Inf(1)
 	if wantSecond && s.k > 1 {
-		q, w1, w2 := f64.Best2Row(x, s.packed, s.norm2, s.k, j)
+		q, w1, w2, _ := f64.Best2Row(z, s.shift, s.packed, s.norm2, s.k, j)
 		if !(w2-w1 > slack2) {
 			return 0, 0, 0, false
 		}

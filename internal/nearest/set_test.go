@@ -36,6 +36,8 @@ func TestSetMatchesDirect(t *testing.T) {
 					c[i] = gen()
 				}
 				s := NewSet(c, k, d, loss)
+				scan := *s
+				scan.packed = nil // the plain scan, whatever the processor
 				z := make([]float64, d)
 				for range 20 {
 					for i := range z {
@@ -59,6 +61,10 @@ func TestSetMatchesDirect(t *testing.T) {
 					j, l = s.Nearest(z)
 					require.Equal(t, wj, j, name)
 					require.Equal(t, math.Float64bits(wl), math.Float64bits(l), name)
+					j, l, l2 = scan.Nearest2(z)
+					require.Equal(t, wj, j, name)
+					require.Equal(t, math.Float64bits(wl), math.Float64bits(l), name)
+					require.Equal(t, math.Float64bits(ws), math.Float64bits(l2), name)
 				}
 			}
 		}

@@ -120,9 +120,20 @@ func best2Generic(idx []int, best, second, x []float64, d int, c, norm2 []float6
 
 // best2RowGeneric is the pure-Go Best2Row: one panel of centers at a time,
 // eight dot products side by side.
-func best2RowGeneric(x []float64, c, norm2 []float64, k, exclude int) (j int, best, second float64) {
+func best2RowGeneric(x, shift []float64, c, norm2 []float64, k, exclude int) (j int, best, second, r2 float64) {
 	d := len(x)
-	checkBest2Row(d, len(c), len(norm2), k)
+	checkBest2Row(d, len(shift), len(c), len(norm2), k)
+	var buf [64]float64
+	xs := buf[:0]
+	if d > len(buf) {
+		xs = make([]float64, 0, d)
+	}
+	for t, v := range x {
+		w := v - shift[t]
+		xs = append(xs, w)
+		r2 += w * w
+	}
+	x = xs
 	var idx [1]int
 	b, s := [1]float64{inf}, [1]float64{inf}
 	for p := 0; p*Panel < k; p++ {
@@ -149,7 +160,7 @@ func best2RowGeneric(x []float64, c, norm2 []float64, k, exclude int) (j int, be
 			}
 		}
 	}
-	return idx[0], b[0], s[0]
+	return idx[0], b[0], s[0], r2
 }
 
 // checkBest2 panics unless the lengths suit Best2.
@@ -163,11 +174,11 @@ func checkBest2(m, nBest, nSecond, nx, d, nc, nNorm, j0, j1 int) {
 }
 
 // checkBest2Row panics unless the lengths suit Best2Row.
-func checkBest2Row(d, nc, nNorm, k int) {
+func checkBest2Row(d, nShift, nc, nNorm, k int) {
 	if d < 1 || k < 1 {
 		panic(panicRange)
 	}
-	if nc < PackedLen(k, d) || nNorm < PackedLen(k, 1) {
+	if nShift < d || nc < PackedLen(k, d) || nNorm < PackedLen(k, 1) {
 		panic(panicShort)
 	}
 }
@@ -215,4 +226,28 @@ func checkPackShift(nDst, nR2, nx, d, m int) {
 	if nDst < PackedLen(m, d) || nR2 < m || nx < m*d {
 		panic(panicShort)
 	}
+}
+
+// peakSink keeps the chains of peakGeneric alive.
+var peakSink float64
+
+// peakGeneric is PeakLoop's scalar loop.
+func peakGeneric(n int) {
+	var s0, s1, s2, s3, s4, s5, s6, s7, s8, s9, s10, s11 float64
+	a, b := 1.0000001, 1e-9
+	for range n {
+		s0 = math.FMA(a, b, s0)
+		s1 = math.FMA(a, b, s1)
+		s2 = math.FMA(a, b, s2)
+		s3 = math.FMA(a, b, s3)
+		s4 = math.FMA(a, b, s4)
+		s5 = math.FMA(a, b, s5)
+		s6 = math.FMA(a, b, s6)
+		s7 = math.FMA(a, b, s7)
+		s8 = math.FMA(a, b, s8)
+		s9 = math.FMA(a, b, s9)
+		s10 = math.FMA(a, b, s10)
+		s11 = math.FMA(a, b, s11)
+	}
+	peakSink = s0 + s1 + s2 + s3 + s4 + s5 + s6 + s7 + s8 + s9 + s10 + s11
 }

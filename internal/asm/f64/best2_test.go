@@ -11,7 +11,7 @@ import (
 
 type best2Func func(idx []int, best, second, x []float64, d int, c, norm2 []float64, j0, j1 int)
 
-type best2RowFunc func(x []float64, c, norm2 []float64, k, exclude int) (int, float64, float64)
+type best2RowFunc func(x, shift []float64, c, norm2 []float64, k, exclude int) (int, float64, float64, float64)
 
 // kernel is one implementation of Best2 under test.
 type kernel struct {
@@ -143,12 +143,33 @@ func checkRow(t *testing.T, f best2RowFunc, p problem, exclude int) {
 	if exclude >= 0 {
 		ref[exclude] = math.Inf(1)
 	}
+	// Integer problems shift the rows by an integer vector (exact, so
+	// compared bit for bit); others pass a zero shift.
+	shift := make([]float64, p.d+1)
+	if p.exact {
+		for q := range p.d {
+			shift[q] = float64(q%3 - 1)
+		}
+	}
+	shift[p.d] = math.NaN() // guard: never read
 	for i := range p.m {
-		x := p.x[i*p.d : (i+1)*p.d]
+		x := make([]float64, p.d)
+		var wantR2 float64
+		for q := range x {
+			x[q] = p.x[i*p.d+q] + shift[q]
+			wantR2 += p.x[i*p.d+q] * p.x[i*p.d+q]
+		}
 		wIdx, wBest, wSecond := []int{0}, []float64{math.Inf(1)}, []float64{math.Inf(1)}
-		tol := reference(wIdx, wBest, wSecond, x, p.d, p.cs, ref, 0, p.k)
-		j, b, s := f(x, c, norm2, p.k, exclude)
-		compare(t, p.exact, wIdx, wBest, wSecond, tol, []int{j}, []float64{b}, []float64{s})
+		tol := reference(wIdx, wBest, wSecond, p.x[i*p.d:(i+1)*p.d], p.d, p.cs, ref, 0, p.k)
+		if !p.exact {
+			j, b, s, r2 := f(x, shift[:p.d], c, norm2, p.k, exclude)
+			compare(t, false, wIdx, wBest, wSecond, tol, []int{j}, []float64{b}, []float64{s})
+			require.InDelta(t, wantR2, r2, float64(2*p.d)*0x1p-53*wantR2+0x1p-1000)
+			continue
+		}
+		j, b, s, r2 := f(x, shift[:p.d], c, norm2, p.k, exclude)
+		compare(t, true, wIdx, wBest, wSecond, tol, []int{j}, []float64{b}, []float64{s})
+		require.Equal(t, wantR2, r2)
 	}
 }
 
@@ -269,21 +290,22 @@ func TestBest2Panics(t *testing.T) {
 	ok := func() { Best2(make([]int, 2), make([]float64, 2), make([]float64, 2), x, 2, c, n, 0, 3) }
 	require.NotPanics(t, ok)
 	for name, f := range map[string]func(){
-		"best":   func() { Best2(make([]int, 2), make([]float64, 1), make([]float64, 2), x, 2, c, n, 0, 3) },
-		"second": func() { Best2(make([]int, 2), make([]float64, 2), make([]float64, 1), x, 2, c, n, 0, 3) },
-		"x":      func() { Best2(make([]int, 2), make([]float64, 2), make([]float64, 2), x[:15], 2, c, n, 0, 3) },
-		"c":      func() { Best2(make([]int, 2), make([]float64, 2), make([]float64, 2), x, 2, c[:5], n, 0, 3) },
-		"norm2":  func() { Best2(make([]int, 2), make([]float64, 2), make([]float64, 2), x, 2, c, n[:2], 0, 3) },
-		"range":  func() { Best2(make([]int, 2), make([]float64, 2), make([]float64, 2), x, 2, c, n, 2, 1) },
-		"d":      func() { Best2(make([]int, 2), make([]float64, 2), make([]float64, 2), x, 0, c, n, 0, 3) },
-		"row c":  func() { Best2Row(make([]float64, 2), c, make([]float64, 8), 3, -1) },
-		"row n":  func() { Best2Row(make([]float64, 2), x, n, 3, -1) },
-		"row k":  func() { Best2Row(make([]float64, 2), x, make([]float64, 8), 0, -1) },
-		"pack":   func() { Pack(make([]float64, 15), make([]float64, 4), 2, 2, 0) },
+		"best":      func() { Best2(make([]int, 2), make([]float64, 1), make([]float64, 2), x, 2, c, n, 0, 3) },
+		"second":    func() { Best2(make([]int, 2), make([]float64, 2), make([]float64, 1), x, 2, c, n, 0, 3) },
+		"x":         func() { Best2(make([]int, 2), make([]float64, 2), make([]float64, 2), x[:15], 2, c, n, 0, 3) },
+		"c":         func() { Best2(make([]int, 2), make([]float64, 2), make([]float64, 2), x, 2, c[:5], n, 0, 3) },
+		"norm2":     func() { Best2(make([]int, 2), make([]float64, 2), make([]float64, 2), x, 2, c, n[:2], 0, 3) },
+		"range":     func() { Best2(make([]int, 2), make([]float64, 2), make([]float64, 2), x, 2, c, n, 2, 1) },
+		"d":         func() { Best2(make([]int, 2), make([]float64, 2), make([]float64, 2), x, 0, c, n, 0, 3) },
+		"row c":     func() { Best2Row(make([]float64, 2), make([]float64, 2), c, make([]float64, 8), 3, -1) },
+		"row n":     func() { Best2Row(make([]float64, 2), make([]float64, 2), x, n, 3, -1) },
+		"row k":     func() { Best2Row(make([]float64, 2), make([]float64, 2), x, make([]float64, 8), 0, -1) },
+		"row shift": func() { Best2Row(make([]float64, 2), make([]float64, 1), x, make([]float64, 8), 3, -1) },
+		"pack":      func() { Pack(make([]float64, 15), make([]float64, 4), 2, 2, 0) },
 	} {
 		require.Panics(t, f, name)
 	}
-	require.NotPanics(t, func() { Best2Row(make([]float64, 2), x, make([]float64, 8), 3, -1) })
+	require.NotPanics(t, func() { Best2Row(make([]float64, 2), make([]float64, 2), x, make([]float64, 8), 3, -1) })
 }
 
 // TestPack: the packed layout puts element t of row i at
@@ -353,9 +375,10 @@ func BenchmarkBest2Row(b *testing.B) {
 				p := randomProblem(rnd, 64, k, d, 1, false)
 				c := Pack(make([]float64, PackedLen(k, d)), p.cs, k, d, 0)
 				norm2 := norms(p.cs, k, d, PackedLen(k, 1), math.Inf(1))
+				shift := make([]float64, d)
 				var sink int
 				for i := 0; b.Loop(); i++ {
-					j, _, _ := kn.row(p.x[i%64*d:(i%64+1)*d], c, norm2, k, -1)
+					j, _, _, _ := kn.row(p.x[i%64*d:(i%64+1)*d], shift, c, norm2, k, -1)
 					sink += j
 				}
 				_ = sink
@@ -417,4 +440,15 @@ func TestPackShift(t *testing.T) {
 			}
 		}
 	}
+}
+
+// BenchmarkPeak is the one-thread fused multiply-add peak of the chosen
+// kernel's vectors (PeakLoop); compare Best2's GFLOP/s with it.
+func BenchmarkPeak(b *testing.B) {
+	const n = 1 << 16
+	var flops float64
+	for b.Loop() {
+		flops += PeakLoop(n)
+	}
+	b.ReportMetric(flops/b.Elapsed().Seconds()/1e9, "GFLOP/s")
 }

@@ -13,9 +13,9 @@ func kernels() []kernel {
 			if len(idx) > 0 && j1 > j0 {
 				best2AVX2(&idx[0], &best[0], &second[0], &x[0], len(idx), d, &c[0], &norm2[0], j0, j1)
 			}
-		}, func(x []float64, c, norm2 []float64, k, exclude int) (int, float64, float64) {
-			checkBest2Row(len(x), len(c), len(norm2), k)
-			return best2RowAVX2(&x[0], len(x), &c[0], &norm2[0], k, exclude)
+		}, func(x, shift []float64, c, norm2 []float64, k, exclude int) (int, float64, float64, float64) {
+			checkBest2Row(len(x), len(shift), len(c), len(norm2), k)
+			return best2RowAVX2(&x[0], &shift[0], len(x), &c[0], &norm2[0], k, exclude)
 		}})
 	}
 	if hasAVX512 {
@@ -24,9 +24,9 @@ func kernels() []kernel {
 			if len(idx) > 0 && j1 > j0 {
 				best2AVX512(&idx[0], &best[0], &second[0], &x[0], len(idx), d, &c[0], &norm2[0], j0, j1)
 			}
-		}, func(x []float64, c, norm2 []float64, k, exclude int) (int, float64, float64) {
-			checkBest2Row(len(x), len(c), len(norm2), k)
-			return best2RowAVX512(&x[0], len(x), &c[0], &norm2[0], k, exclude)
+		}, func(x, shift []float64, c, norm2 []float64, k, exclude int) (int, float64, float64, float64) {
+			checkBest2Row(len(x), len(shift), len(c), len(norm2), k)
+			return best2RowAVX512(&x[0], &shift[0], len(x), &c[0], &norm2[0], k, exclude)
 		}})
 	}
 	return append(ks, kernel{"Best2=" + Kernel(), Best2, Best2Row})

@@ -36,18 +36,19 @@ func Best2(idx []int, best, second, x []float64, d int, c, norm2 []float64, j0, 
 	best2Generic(idx, best, second, x, d, c, norm2, j0, j1)
 }
 
-// Best2Row returns, for the one row x (d = len(x) values), the two
-// smallest values of norm2[j] − 2·x·c_j over the k centers of c (packed in
-// panels, see Pack) other than exclude, and the index of the smallest. It
-// is Best2's loop for one row with the roles of the layout swapped: the
-// centers are packed, so that one panel of centers is one vector. Pass
-// exclude = −1 to search all centers. best and second are +Inf (and j is
-// 0) when no value is below +Inf.
+// Best2Row returns, for the one row x − shift (d = len(x) values), the
+// two smallest values of norm2[j] − 2·(x−shift)·c_j over the k centers of
+// c (packed in panels, see Pack) other than exclude, the index of the
+// smallest, and ‖x−shift‖² (each summed in any order). It is Best2's loop
+// for one row with the roles of the layout swapped: the centers are
+// packed, so that one panel of centers is one vector. Pass exclude = −1
+// to search all centers. best and second are +Inf (and j is 0) when no
+// value is below +Inf. It allocates nothing for d ≤ 64.
 //
-// It panics if d < 1, k < 1, len(c) < PackedLen(k, d) or
+// It panics if d < 1, k < 1, len(shift) < d, len(c) < PackedLen(k, d) or
 // len(norm2) < PackedLen(k, 1).
-func Best2Row(x []float64, c, norm2 []float64, k, exclude int) (j int, best, second float64) {
-	return best2RowGeneric(x, c, norm2, k, exclude)
+func Best2Row(x, shift []float64, c, norm2 []float64, k, exclude int) (j int, best, second, r2 float64) {
+	return best2RowGeneric(x, shift, c, norm2, k, exclude)
 }
 
 // PackShift writes the m rows of x (m×d row-major, d = len(shift)) minus
@@ -59,6 +60,16 @@ func PackShift(dst, r2, x, shift []float64, m int) []float64 {
 	checkPackShift(len(dst), len(r2), len(x), len(shift), m)
 	packShiftGeneric(dst, r2, x, shift, 0, m)
 	return dst[:PackedLen(m, len(shift))]
+}
+
+// PeakLoop runs n iterations of twelve independent chains of fused
+// multiply-adds on the vectors of the kernel Best2 runs (zmm for avx512,
+// ymm for avx2, scalar math.FMA for go) and returns the floating-point
+// operations performed, 2·lanes·12·n. Divided by its time it is the
+// one-thread peak rate that benchmarks compare the kernels with.
+func PeakLoop(n int) float64 {
+	peakGeneric(n)
+	return 2 * 12 * float64(n)
 }
 
 // Kernel names the implementation Best2 runs: "go", the pure-Go code.

@@ -154,26 +154,28 @@ func best2AVX2(a *asm) {
 }
 
 // Stack scratch of best2RowAVX2: lane best, second, index of the eight
-// center lanes at 0, 64 and 128(SP).
+// center lanes at 0, 64 and 128(SP); ‖x−shift‖² at 192(SP).
 //
 // Registers:
 //
-//	SI  x         R9 d        AX t        DI panel group   BX centers at t
+//	SI  x  CX shift  R9 d     AX t        DI panel group   BX centers at t
 //	R12 panel size 64d        DX norm2 of the group         R13 panels left
 //	R10 index of the group's first center
 //	Y0–Y7 accumulators (two panels × two halves × even/odd t)
-//	Y14, Y15 broadcasts; in merges Y8–Y10 state, Y11–Y15 temporaries
+//	Y14, Y15 broadcasts, X10, X11 ‖x−shift‖² of even and odd t;
+//	in merges Y8–Y10 state, Y11–Y15 temporaries
 func best2RowAVX2(a *asm) {
 	a.p("")
-	a.p("// func best2RowAVX2(x *float64, d int, c, norm2 *float64, k, exclude int) (j int, best, second float64)")
-	a.p("TEXT ·best2RowAVX2(SB), NOSPLIT, $192-72")
+	a.p("// func best2RowAVX2(x, shift *float64, d int, c, norm2 *float64, k, exclude int) (j int, best, second, r2 float64)")
+	a.p("TEXT ·best2RowAVX2(SB), NOSPLIT, $200-88")
 	a.i("MOVQ x+0(FP), SI")
-	a.i("MOVQ d+8(FP), R9")
-	a.i("MOVQ c+16(FP), DI")
-	a.i("MOVQ norm2+24(FP), DX")
+	a.i("MOVQ shift+8(FP), CX")
+	a.i("MOVQ d+16(FP), R9")
+	a.i("MOVQ c+24(FP), DI")
+	a.i("MOVQ norm2+32(FP), DX")
 	a.i("MOVQ R9, R12")
 	a.i("SHLQ $6, R12")
-	a.i("MOVQ k+32(FP), R13")
+	a.i("MOVQ k+40(FP), R13")
 	a.i("ADDQ $7, R13")
 	a.i("SHRQ $3, R13")
 	a.i("XORQ R10, R10")
@@ -200,12 +202,20 @@ func best2RowAVX2(a *asm) {
 		}
 		a.i("MOVQ DI, BX")
 		a.i("XORQ AX, AX")
+		a.i("VXORPD X10, X10, X10")
+		a.i("VXORPD X11, X11, X11")
 		a.p("%s:", l("t2"))
 		a.i("LEAQ 2(AX), R8")
 		a.i("CMPQ R8, R9")
 		a.i("JGT %s", l("t1"))
-		a.i("VBROADCASTSD (SI)(AX*8), Y14")
-		a.i("VBROADCASTSD 8(SI)(AX*8), Y15")
+		a.i("VMOVSD (SI)(AX*8), X14")
+		a.i("VMOVSD 8(SI)(AX*8), X15")
+		a.i("VSUBSD (CX)(AX*8), X14, X14")
+		a.i("VSUBSD 8(CX)(AX*8), X15, X15")
+		a.i("VFMADD231SD X14, X14, X10")
+		a.i("VFMADD231SD X15, X15, X11")
+		a.i("VBROADCASTSD X14, Y14")
+		a.i("VBROADCASTSD X15, Y15")
 		for e := range 2 {
 			for p := range G {
 				for h := range 2 {
@@ -223,13 +233,18 @@ func best2RowAVX2(a *asm) {
 		a.p("%s:", l("t1"))
 		a.i("CMPQ AX, R9")
 		a.i("JGE %s", l("merge"))
-		a.i("VBROADCASTSD (SI)(AX*8), Y14")
+		a.i("VMOVSD (SI)(AX*8), X14")
+		a.i("VSUBSD (CX)(AX*8), X14, X14")
+		a.i("VFMADD231SD X14, X14, X10")
+		a.i("VBROADCASTSD X14, Y14")
 		for p := range G {
 			for h := range 2 {
 				a.i("VFMADD231PD %d%s, Y14, %s", 32*h, panelAddr(p), acc(p, h, 0))
 			}
 		}
 		a.p("%s:", l("merge"))
+		a.i("VADDSD X11, X10, X10")
+		a.i("VMOVSD X10, 192(SP)")
 		for p := range G {
 			for h := range 2 {
 				v := acc(p, h, 0)
@@ -246,9 +261,9 @@ func best2RowAVX2(a *asm) {
 				a.i("MOVQ AX, X12")
 				a.i("VPBROADCASTQ X12, Y12")
 				a.i("VPADDQ iota256<>(SB), Y12, Y12")
-				a.i("VPBROADCASTQ k+32(FP), Y13")
+				a.i("VPBROADCASTQ k+40(FP), Y13")
 				a.i("VPCMPGTQ Y12, Y13, Y13")
-				a.i("VPBROADCASTQ exclude+40(FP), Y14")
+				a.i("VPBROADCASTQ exclude+48(FP), Y14")
 				a.i("VPCMPEQQ Y12, Y14, Y14")
 				a.i("VPANDN Y13, Y14, Y13")
 				a.i("VCMPPD $0x11, Y9, Y11, Y14")
@@ -275,6 +290,8 @@ func best2RowAVX2(a *asm) {
 		a.i("JMP %s", l("group"))
 		a.p("%s:", l("next"))
 	}
+	a.i("VMOVSD 192(SP), X0")
+	a.i("VMOVSD X0, r2+80(FP)")
 	// Reduce: the upper half into the lower, then the 128-bit halves,
 	// then neighbours.
 	a.i("VMOVUPD 0(SP), Y0")
@@ -303,9 +320,9 @@ func best2RowAVX2(a *asm) {
 		merge()
 	}
 	a.i("VMOVQ X2, AX")
-	a.i("MOVQ AX, j+48(FP)")
-	a.i("VMOVSD X0, best+56(FP)")
-	a.i("VMOVSD X1, second+64(FP)")
+	a.i("MOVQ AX, j+56(FP)")
+	a.i("VMOVSD X0, best+64(FP)")
+	a.i("VMOVSD X1, second+72(FP)")
 	a.i("VZEROUPPER")
 	a.i("RET")
 }

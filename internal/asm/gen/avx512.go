@@ -196,28 +196,30 @@ func merge512(a *asm, R int, acc string, r, q int) {
 
 // Registers of best2RowAVX512.
 //
-//	SI  x              R9  d            AX  t
+//	SI  x   CX shift   R9  d            AX  t
 //	DI  panel group    BX  centers at t R12 panel size 64d   R10 3·64d
 //	DX  norm2 of the group               R13 panels left
 //	Z0–Z3 accumulators of even t, Z4–Z7 of odd t, Z16, Z17 broadcasts
 //	Z20 best, Z21 second, Z22 index, Z23 center indices, Z24 eight,
-//	Z25 k, Z26 2.0, Z27 exclude; K5 lanes in range, K1, K2 comparisons
+//	Z25 k, Z26 2.0, Z27 exclude, X28, X29 ‖x−shift‖² of even and odd t;
+//	K5 lanes in range, K1, K2 comparisons
 func best2RowAVX512(a *asm) {
 	a.p("")
-	a.p("// func best2RowAVX512(x *float64, d int, c, norm2 *float64, k, exclude int) (j int, best, second float64)")
-	a.p("TEXT ·best2RowAVX512(SB), NOSPLIT, $0-72")
+	a.p("// func best2RowAVX512(x, shift *float64, d int, c, norm2 *float64, k, exclude int) (j int, best, second, r2 float64)")
+	a.p("TEXT ·best2RowAVX512(SB), NOSPLIT, $0-88")
 	a.i("MOVQ x+0(FP), SI")
-	a.i("MOVQ d+8(FP), R9")
-	a.i("MOVQ c+16(FP), DI")
-	a.i("MOVQ norm2+24(FP), DX")
+	a.i("MOVQ shift+8(FP), CX")
+	a.i("MOVQ d+16(FP), R9")
+	a.i("MOVQ c+24(FP), DI")
+	a.i("MOVQ norm2+32(FP), DX")
 	a.i("MOVQ R9, R12")
 	a.i("SHLQ $6, R12")
 	a.i("LEAQ (R12)(R12*2), R10")
-	a.i("MOVQ k+32(FP), R13")
+	a.i("MOVQ k+40(FP), R13")
 	a.i("VPBROADCASTQ R13, Z25")
 	a.i("ADDQ $7, R13")
 	a.i("SHRQ $3, R13")
-	a.i("MOVQ exclude+40(FP), AX")
+	a.i("MOVQ exclude+48(FP), AX")
 	a.i("VPBROADCASTQ AX, Z27")
 	a.i("VBROADCASTSD two512<>(SB), Z26")
 	a.i("VPBROADCASTQ eight512<>(SB), Z24")
@@ -238,12 +240,20 @@ func best2RowAVX512(a *asm) {
 		}
 		a.i("MOVQ DI, BX")
 		a.i("XORQ AX, AX")
+		a.i("VPXORQ Z28, Z28, Z28")
+		a.i("VPXORQ Z29, Z29, Z29")
 		a.p("%s:", l("t2"))
 		a.i("LEAQ 2(AX), R8")
 		a.i("CMPQ R8, R9")
 		a.i("JGT %s", l("t1"))
-		a.i("VBROADCASTSD (SI)(AX*8), Z16")
-		a.i("VBROADCASTSD 8(SI)(AX*8), Z17")
+		a.i("VMOVSD (SI)(AX*8), X16")
+		a.i("VMOVSD 8(SI)(AX*8), X17")
+		a.i("VSUBSD (CX)(AX*8), X16, X16")
+		a.i("VSUBSD 8(CX)(AX*8), X17, X17")
+		a.i("VFMADD231SD X16, X16, X28")
+		a.i("VFMADD231SD X17, X17, X29")
+		a.i("VBROADCASTSD X16, Z16")
+		a.i("VBROADCASTSD X17, Z17")
 		for q := range G {
 			a.i("VFMADD231PD %s, Z16, %s", panel[q], z(q))
 		}
@@ -256,11 +266,15 @@ func best2RowAVX512(a *asm) {
 		a.p("%s:", l("t1"))
 		a.i("CMPQ AX, R9")
 		a.i("JGE %s", l("merge"))
-		a.i("VBROADCASTSD (SI)(AX*8), Z16")
+		a.i("VMOVSD (SI)(AX*8), X16")
+		a.i("VSUBSD (CX)(AX*8), X16, X16")
+		a.i("VFMADD231SD X16, X16, X28")
+		a.i("VBROADCASTSD X16, Z16")
 		for q := range G {
 			a.i("VFMADD231PD %s, Z16, %s", panel[q], z(q))
 		}
 		a.p("%s:", l("merge"))
+		a.i("VADDSD X29, X28, X28")
 		for q := range G {
 			acc := z(q)
 			a.i("VADDPD %s, %s, %s", z(4+q), acc, acc)
@@ -285,6 +299,7 @@ func best2RowAVX512(a *asm) {
 		a.i("JMP %s", l("group"))
 		a.p("%s:", l("next"))
 	}
+	a.i("VMOVSD X28, r2+80(FP)")
 	// Reduce the lanes: swap halves, quarters, then neighbours, merging
 	// (best, second, index) pairwise each time; every lane ends with the
 	// answer.
@@ -303,9 +318,9 @@ func best2RowAVX512(a *asm) {
 		a.i("VMOVDQA64 Z30, K1, Z22")
 	}
 	a.i("VMOVQ X22, AX")
-	a.i("MOVQ AX, j+48(FP)")
-	a.i("VMOVSD X20, best+56(FP)")
-	a.i("VMOVSD X21, second+64(FP)")
+	a.i("MOVQ AX, j+56(FP)")
+	a.i("VMOVSD X20, best+64(FP)")
+	a.i("VMOVSD X21, second+72(FP)")
 	a.i("VZEROUPPER")
 	a.i("RET")
 }
