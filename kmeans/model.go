@@ -7,6 +7,7 @@ import (
 	"time"
 
 	"github.com/centroidlab/centroid/distance"
+	"github.com/centroidlab/centroid/internal/asm/f64"
 	"github.com/centroidlab/centroid/internal/check"
 	"github.com/centroidlab/centroid/internal/nearest"
 	"github.com/centroidlab/centroid/scale"
@@ -320,27 +321,22 @@ func checkFinite1(x []float64, where string) error {
 }
 
 // locateKnown scales x into z (affine or none), checks it and searches.
-// z is a stack buffer of the caller: nothing here may let it escape.
+// z is a stack buffer of the caller: nothing here may let it escape (the
+// kernels it reaches do not keep their arguments).
 func (m *Model) locateKnown(z, x []float64, second bool) (int, float64, float64, error) {
 	x = x[:len(z)]
 	if m.shift != nil {
-		shift, div := m.shift[:len(z)], m.div[:len(z)]
-		for j, v := range x {
-			s := (v - shift[j]) / div[j]
-			if s-s != 0 { // NaN or ±Inf
-				return -1, 0, 0, notFinite(x, j, s)
-			}
-			z[j] = s
+		if j := f64.Affine(z, x, m.shift, m.div); j >= 0 {
+			return -1, 0, 0, notFinite(x, j, z[j])
 		}
-	} else {
-		for j, v := range x {
-			if v-v != 0 {
-				return -1, 0, 0, notFinite(x, j, v)
-			}
-			z[j] = v
+		return m.searchKnown(z, second)
+	}
+	for j, v := range x {
+		if v-v != 0 {
+			return -1, 0, 0, notFinite(x, j, v)
 		}
 	}
-	return m.searchKnown(z, second)
+	return m.searchKnown(x, second)
 }
 
 // notFinite reports the non-finite value s of column j of x (or of its

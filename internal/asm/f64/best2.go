@@ -251,3 +251,17 @@ func peakGeneric(n int) {
 	}
 	peakSink = s0 + s1 + s2 + s3 + s4 + s5 + s6 + s7 + s8 + s9 + s10 + s11
 }
+
+// affineGeneric is the pure-Go Affine.
+func affineGeneric(dst, x, shift, div []float64) int {
+	n := len(x)
+	dst, shift, div = dst[:n], shift[:n], div[:n]
+	for t, v := range x {
+		s := (v - shift[t]) / div[t]
+		dst[t] = s
+		if s-s != 0 {
+			return t
+		}
+	}
+	return -1
+}

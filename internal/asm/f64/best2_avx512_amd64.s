@@ -810,6 +810,47 @@ donepack:
 	VZEROUPPER
 	RET
 
+// func affineAVX512(dst, x, shift, div *float64, n int) int
+TEXT ·affineAVX512(SB), NOSPLIT, $0-48
+	MOVQ dst+0(FP), DI
+	MOVQ x+8(FP), SI
+	MOVQ shift+16(FP), DX
+	MOVQ div+24(FP), BX
+	MOVQ n+32(FP), CX
+	XORQ AX, AX
+	VPXORQ Z3, Z3, Z3
+loopaff512:
+	MOVQ CX, R8
+	SUBQ AX, R8
+	JLE okaff512
+	MOVQ $8, R9
+	CMPQ R8, R9
+	CMOVQGT R9, R8
+	MOVL $0xFF, R9
+	BZHIQ R8, R9, R9
+	KMOVW R9, K1
+	VMOVUPD.Z (SI)(AX*8), K1, Z0
+	VSUBPD.Z (DX)(AX*8), Z0, K1, Z0
+	VDIVPD.Z (BX)(AX*8), Z0, K1, Z0
+	VMOVUPD Z0, K1, (DI)(AX*8)
+	VSUBPD Z0, Z0, Z1
+	VCMPPD $4, Z3, Z1, K1, K2
+	KMOVW K2, R9
+	TESTL R9, R9
+	JNZ badaff512
+	ADDQ $8, AX
+	JMP loopaff512
+badaff512:
+	TZCNTL R9, R9
+	ADDQ R9, AX
+	MOVQ AX, ret+40(FP)
+	VZEROUPPER
+	RET
+okaff512:
+	MOVQ $-1, ret+40(FP)
+	VZEROUPPER
+	RET
+
 // func fmaLoopAVX512(n int)
 TEXT ·fmaLoopAVX512(SB), NOSPLIT, $0-8
 	MOVQ n+0(FP), CX

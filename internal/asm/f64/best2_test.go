@@ -452,3 +452,48 @@ func BenchmarkPeak(b *testing.B) {
 	}
 	b.ReportMetric(flops/b.Elapsed().Seconds()/1e9, "GFLOP/s")
 }
+
+// TestAffine: Affine equals the scalar loop bit for bit and finds the
+// first non-finite result (NaN or ±Inf input, overflow, 0/0), for every
+// length from 0 to 40; it writes nothing past len(x).
+func TestAffine(t *testing.T) {
+	rnd := rand.New(rand.NewPCG(6, 6))
+	for n := range 41 {
+		for trial := range 6 {
+			x, shift, div := make([]float64, n), make([]float64, n), make([]float64, n)
+			for i := range x {
+				x[i], shift[i], div[i] = rnd.NormFloat64()*1e3, rnd.NormFloat64(), 0.1+rnd.Float64()*10
+			}
+			want := -1
+			if n > 0 && trial > 0 {
+				at := rnd.IntN(n)
+				switch trial {
+				case 1:
+					x[at] = math.NaN()
+				case 2:
+					x[at] = math.Inf(-1)
+				case 3:
+					x[at], div[at] = 1e300, 1e-300 // overflows
+				case 4:
+					x[at], shift[at], div[at] = 1, 1, 0 // 0/0
+				case 5:
+					x[at] = math.MaxFloat64
+					shift[at] = -math.MaxFloat64 // overflows in the subtraction
+				}
+				want = at
+			}
+			dst := make([]float64, n+2)
+			dst[n], dst[n+1] = 7, 7
+			got := Affine(dst[:n], x, shift, div)
+			require.Equal(t, want, got, "n=%d trial %d", n, trial)
+			last := n
+			if want >= 0 {
+				last = want + 1
+			}
+			for i := range last {
+				require.Equal(t, math.Float64bits((x[i]-shift[i])/div[i]), math.Float64bits(dst[i]), "n=%d i=%d", n, i)
+			}
+			require.Equal(t, []float64{7, 7}, dst[n:], "wrote past len(x)")
+		}
+	}
+}

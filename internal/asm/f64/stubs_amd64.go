@@ -96,6 +96,9 @@ func fmaLoopAVX2(n int)
 //go:noescape
 func packShiftAVX512(dst, r2, x, shift *float64, panels, d int)
 
+//go:noescape
+func affineAVX512(dst, x, shift, div *float64, n int) int
+
 // PackShift writes the m rows of x (m×d row-major, d = len(shift)) minus
 // shift into dst in the packed layout of Pack (padded lanes zero), and
 // each row's squared norm ‖x_i − shift‖² (summed in any order) into r2. It
@@ -129,6 +132,20 @@ func PeakLoop(n int) float64 {
 	}
 	peakGeneric(n)
 	return 2 * 12 * float64(n)
+}
+
+// Affine sets dst[t] = (x[t] − shift[t]) / div[t] for t < len(x), each
+// element with exactly these two operations, and returns the first t at
+// which dst[t] is not finite (NaN or ±Inf), or −1. dst holds every
+// element up to that t. It panics if dst, shift or div is shorter than x.
+func Affine(dst, x, shift, div []float64) int {
+	if hasAVX512 && len(x) > 0 {
+		if len(dst) < len(x) || len(shift) < len(x) || len(div) < len(x) {
+			panic(panicShort)
+		}
+		return affineAVX512(&dst[0], &x[0], &shift[0], &div[0], len(x))
+	}
+	return affineGeneric(dst, x, shift, div)
 }
 
 // Kernel names the implementation Best2 runs: "go" for the pure-Go code,

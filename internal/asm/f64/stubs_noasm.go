@@ -72,5 +72,13 @@ func PeakLoop(n int) float64 {
 	return 2 * 12 * float64(n)
 }
 
+// Affine sets dst[t] = (x[t] − shift[t]) / div[t] for t < len(x), each
+// element with exactly these two operations, and returns the first t at
+// which dst[t] is not finite (NaN or ±Inf), or −1. dst holds every
+// element up to that t. It panics if dst, shift or div is shorter than x.
+func Affine(dst, x, shift, div []float64) int {
+	return affineGeneric(dst, x, shift, div)
+}
+
 // Kernel names the implementation Best2 runs: "go", the pure-Go code.
 func Kernel() string { return "go" }

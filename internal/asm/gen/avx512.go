@@ -25,6 +25,7 @@ func avx512(a *asm) {
 	best2AVX512(a)
 	best2RowAVX512(a)
 	packShiftAVX512(a)
+	affineAVX512(a)
 	fmaLoop(a, "fmaLoopAVX512", z, "VPXORQ", 12)
 }
 
