@@ -8,12 +8,12 @@ import "math"
 // centers; afterwards it is read-only and may be shared by concurrent
 // Searchers. The zero value is empty and ready for Pack.
 type Centers struct {
-	k, d    int
-	shift   []float64 // subtracted from rows and centers: the mean of the centers
-	c       []float64 // shifted centers, k×d row-major
-	norm2   []float64 // ‖c_j‖² in floating point
-	maxNorm float64   // max_j √norm2[j]
-	round   Rounding
+	k, d     int
+	shift    []float64 // subtracted from rows and centers: the mean of the centers
+	c        []float64 // shifted centers, k×d row-major
+	norm2    []float64 // ‖c_j‖² in floating point
+	maxNorm2 float64   // max_j norm2[j]
+	round    Rounding
 }
 
 // Pack prepares the k centers in c (k×d row-major), reusing the receiver's
@@ -38,8 +38,9 @@ type Centers struct {
 //     (d+2)·u·D ≤ (d+2)·u·R²(1+2u) of D.
 //
 // So every quantity the search compares is within (2d+6)·u·R²·(1+ε) of
-// the others; Rounding.Slack uses T = (2d+16)·u·(r+maxNorm)² + 2⁻⁹⁰⁰, which
-// also absorbs the rounding of r and maxNorm themselves, of T, and of one
+// the others; Rounding.Slack uses T = (2d+16)·u·2(r²+ρ_max²) + 2⁻⁹⁰⁰ ≥
+// (2d+16)·u·(r+ρ_max)² + 2⁻⁹⁰⁰, which also absorbs the rounding of the
+// computed r² and ρ_max² themselves, of T, and of one
 // addition and one subtraction of T when T is turned into bounds, for any
 // d ≪ 1/u. The last term covers underflow. The proof does not depend on
 // the order of the sums, so every kernel (pure Go, AVX2, AVX-512) and
@@ -73,7 +74,7 @@ func (p *Centers) Pack(c []float64, k, d int) {
 		p.norm2[j] = n2
 		maxN2 = math.Max(maxN2, n2)
 	}
-	p.maxNorm = math.Sqrt(maxN2)
+	p.maxNorm2 = maxN2
 }
 
 func grow(s []float64, n int) []float64 {

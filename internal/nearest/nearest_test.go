@@ -7,6 +7,7 @@ import (
 	"math/rand/v2"
 	"testing"
 
+	"github.com/centroidlab/centroid/distance"
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
 )
@@ -197,9 +198,64 @@ func TestPackShift(t *testing.T) {
 	assert.Equal(t, []float64{2, 2}, c.shift)
 	assert.Equal(t, []float64{-2, -2, 2, -2, 0, 4}, c.c)
 	assert.Equal(t, []float64{8, 8, 16}, c.norm2)
-	assert.Equal(t, 4.0, c.maxNorm)
+	assert.Equal(t, 16.0, c.maxNorm2)
 	var s Searcher
 	dst := make([]int, 1)
 	s.Assign(dst, []float64{4, 1}, 1, &c, nil)
 	assert.Equal(t, 1, dst[0]) // (4,1) is nearest to center 1, (4,0)
+}
+
+// TestRoundingBrackets: for computed Euclidean and Manhattan distances
+// (distance.SqEuclidean's square root, distance.Manhattan's sum) of random
+// rows with heavy cancellation, Down and Up bracket the exact distance
+// (math/big), and Beats never claims an order that the exact distances
+// contradict — the two properties the bound solvers rely on.
+func TestRoundingBrackets(t *testing.T) {
+	rnd := rand.New(rand.NewPCG(12, 12))
+	for d := 1; d <= 64; d++ {
+		r := NewRounding(d)
+		for range 40 {
+			x, c := make([]float64, d), make([]float64, d)
+			for i := range x {
+				off := math.Pow(10, float64(rnd.IntN(30)-10))
+				x[i] = off + rnd.NormFloat64()*off*1e-6
+				c[i] = off + rnd.NormFloat64()*off*1e-6
+			}
+			exact, _ := new(big.Float).Sqrt(exactSq(x, c)).Float64()
+			e := math.Sqrt(distance.SqEuclidean(x, c))
+			require.LessOrEqual(t, r.Down(e), exact, "d=%d", d)
+			require.GreaterOrEqual(t, r.Up(e), exact, "d=%d", d)
+			var man big.Float
+			man.SetPrec(4096)
+			for i := range x {
+				var v big.Float
+				v.SetPrec(4096).Sub(big.NewFloat(x[i]), big.NewFloat(c[i]))
+				man.Add(&man, v.Abs(&v))
+			}
+			exactMan, _ := man.Float64()
+			mh := distance.Manhattan{}.Distance(x, c)
+			require.LessOrEqual(t, r.Down(mh), exactMan)
+			require.GreaterOrEqual(t, r.Up(mh), exactMan)
+			// Beats on the bounds of two distances implies their exact
+			// order: a second center, near the first so that the two are
+			// often within rounding of each other.
+			c2 := append([]float64(nil), c...)
+			c2[rnd.IntN(d)] *= 1 + float64(rnd.IntN(3)-1)*0x1p-50
+			exact2, _ := new(big.Float).Sqrt(exactSq(x, c2)).Float64()
+			e2 := math.Sqrt(distance.SqEuclidean(x, c2))
+			if r.Beats(r.Down(e), r.Up(e2)) {
+				require.Greater(t, exact, exact2)
+			}
+			if r.Beats(r.Down(e2), r.Up(e)) {
+				require.Greater(t, exact2, exact)
+			}
+		}
+	}
+	r := NewRounding(16)
+	require.Zero(t, r.Down(math.NaN()))
+	require.False(t, r.Beats(math.NaN(), 1))
+	require.False(t, r.Beats(1, 1))
+	require.True(t, math.IsInf(r.Slack(math.Inf(1), 1), 1))
+	require.True(t, math.IsInf(r.Slack(math.NaN(), 1), 1))
+	require.Greater(t, r.Slack(3, 4), float64(2*16+16)*0x1p-53*(math.Sqrt(3)+2)*(math.Sqrt(3)+2))
 }

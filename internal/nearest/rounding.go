@@ -67,14 +67,14 @@ func (r Rounding) Down(v float64) float64 {
 // their computed losses compare strictly the same way. NaN never beats.
 func (r Rounding) Beats(lo, hi float64) bool { return lo > hi*(1+r.eps)+Tiny }
 
-// Slack returns the bound T of Centers for a shifted row of norm rowNorm
-// and centers of norm at most maxNorm: every value the kernel computes,
-// plus the row's computed squared norm, is within T of both the exact
-// squared distance and the directly computed one. It is +Inf when T would
-// not be finite.
-func (r Rounding) Slack(rowNorm, maxNorm float64) float64 {
-	R := rowNorm + maxNorm
-	t := float64(2*r.d+16)*unit*R*R + 0x1p-900
+// Slack returns the bound T of Centers for a shifted row of squared norm
+// rowNorm2 and centers of squared norm at most maxNorm2: every value the
+// kernel computes, plus the row's computed squared norm, is within T of
+// both the exact squared distance and the directly computed one. It is
+// +Inf when T would not be finite. It uses (r+ρ)² ≤ 2(r²+ρ²), so that no
+// square root is needed.
+func (r Rounding) Slack(rowNorm2, maxNorm2 float64) float64 {
+	t := float64(2*r.d+16)*unit*2*(rowNorm2+maxNorm2) + 0x1p-900
 	if !(t <= math.MaxFloat64/4) {
 		return math.Inf(1)
 	}

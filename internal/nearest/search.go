@@ -33,7 +33,7 @@ func (s *Searcher) load(x []float64, m int, c *Centers) {
 	s.second = grow(s.second, m)
 	f64.PackShift(s.x, s.r2, x, c.shift[:d], m)
 	for i, r2 := range s.r2[:m] {
-		s.slack[i] = c.round.Slack(math.Sqrt(r2), c.maxNorm)
+		s.slack[i] = c.round.Slack(r2, c.maxNorm2)
 	}
 }
 

@@ -52,7 +52,7 @@ type Set struct {
 	// centers shifted by their mean and packed for f64.Best2Row, their
 	// squared norms (padded lanes +Inf) and largest norm.
 	packed, norm2, shift []float64
-	maxNorm              float64
+	maxNorm2             float64
 	round                Rounding
 }
 
@@ -76,7 +76,7 @@ func NewSet(c []float64, k, d int, loss Loss) *Set {
 			s.norm2[j] = math.Inf(1)
 		}
 		copy(s.norm2, p.norm2)
-		s.shift, s.maxNorm, s.round = p.shift, p.maxNorm, p.round
+		s.shift, s.maxNorm2, s.round = p.shift, p.maxNorm2, p.round
 	}
 	return s
 }
@@ -117,7 +117,7 @@ func (s *Set) search(z []float64, wantSecond bool) (int, float64, float64) {
 // caller scans.
 func (s *Set) kernel(z []float64, wantSecond bool) (int, float64, float64, bool) {
 	j, v1, v2, r2 := f64.Best2Row(z, s.shift, s.packed, s.norm2, s.k, -1)
-	slack2 := 2 * s.round.Slack(math.Sqrt(r2), s.maxNorm)
+	slack2 := 2 * s.round.Slack(r2, s.maxNorm2)
 	if !(v2-v1 > slack2) {
 		return 0, 0, 0, false
 	}
