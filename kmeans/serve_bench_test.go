@@ -95,21 +95,25 @@ func spreadBlobs(n, d, k int, sd float64, seed uint64) *mat.Dense {
 	return x
 }
 
-// serveVariants are the pruning layers measured by BenchmarkServeVariants,
-// cumulative from the plain scan (Model.Nearest).
+// serveVariants are the searches BenchmarkServeVariants compares with
+// Model.Nearest: a plain scan and the pruning layers, cumulative.
 var serveVariants = []struct {
 	name string
 	v    variant
 }{
+	{"plain", variant{}},
 	{"abandon", variant{abandon: true}},
 	{"projection", variant{abandon: true, projection: true}},
 	{"skip", variant{abandon: true, projection: true, skip: true}},
 }
 
-// BenchmarkServeVariants times Model.Nearest (a plain scan) against the
-// pruned searches it replaced, on well-separated and overlapping clusters,
-// rows rotating through the training rows; select with e.g.
-// -bench 'ServeVariants/overlap/d=16'.
+// BenchmarkServeVariants times Model.Nearest ("nearest": the vector kernel
+// with its exact recheck, or with -tags purego the interleaved scan)
+// against a plain scan of one center at a time with distance.SqEuclidean's
+// arithmetic ("plain") and the pruning layers of the search it replaced,
+// cumulative: early abandon, projection order, center–center skips. Data:
+// well-separated and overlapping clusters, rows rotating through the
+// training rows; select with e.g. -bench 'ServeVariants/overlap/d=16'.
 func BenchmarkServeVariants(b *testing.B) {
 	for _, kind := range []struct {
 		name string
@@ -123,7 +127,7 @@ func BenchmarkServeVariants(b *testing.B) {
 					b.Fatal(err)
 				}
 				m := res.Model
-				b.Run("scan", func(b *testing.B) {
+				b.Run("nearest", func(b *testing.B) {
 					b.ReportAllocs()
 					for i := 0; b.Loop(); i++ {
 						if _, _, err := m.Nearest(x.RawRowView(i % variantRows)); err != nil {

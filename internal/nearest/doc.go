@@ -28,11 +28,13 @@
 // exactly the argmin of the direct computation. See Centers.Pack for the
 // derivation of T.
 //
-// # Serving: a plain scan
+// # Serving: one row at a time
 //
-// Set measures every center with the distance package's own arithmetic,
-// several centers interleaved; see Set for the pruned searches it replaced
-// and why.
+// Set runs the one-row kernel f64.Best2Row under the squared Euclidean
+// distance, with the same rounding bound and a direct recheck, and
+// otherwise measures every center with the distance package's own
+// arithmetic, several centers interleaved; see Set for the pruned
+// searches these replaced and why.
 //
 // # Rounding
 //

@@ -27,3 +27,14 @@ func ExampleSearcher_Assign() {
 	fmt.Println(dst, rechecked)
 	// Output: [0 0 1] 1
 }
+
+// A served model's search: three station profiles (trips per day, weekend
+// share ×100) and a new station; the answer and both losses are those of a
+// direct scan with distance.SqEuclidean.
+func ExampleSet_Nearest2() {
+	centers := []float64{100, 20, 300, 20, 200, 60}
+	s := nearest.NewSet(centers, 3, 2, nearest.SquaredEuclidean)
+	j, loss, second := s.Nearest2([]float64{190, 50})
+	fmt.Println(j, loss, second)
+	// Output: 2 200 9000
+}
