@@ -275,7 +275,18 @@ func (m *Model) locate(x []float64, second bool) (int, float64, float64, error) 
 	if len(x) != m.d {
 		return -1, 0, 0, fmt.Errorf("%w: row has %d values, model has %d features", ErrDimension, len(x), m.d)
 	}
-	if m.kind != otherMetric && (m.scaler == nil || m.shift != nil) {
+	if m.kind != otherMetric && m.scaler == nil {
+		// A NaN or ±Inf in x makes every loss NaN or +Inf, so the search
+		// fails; only then is x checked, to name the feature.
+		j, l, l2, err := m.searchKnown(x, second)
+		if err != nil {
+			if ferr := checkFinite1(x, ""); ferr != nil {
+				return -1, 0, 0, ferr
+			}
+		}
+		return j, l, l2, err
+	}
+	if m.kind != otherMetric && m.shift != nil {
 		switch {
 		case m.d <= smallDim:
 			var buf [smallDim]float64
@@ -320,23 +331,15 @@ func checkFinite1(x []float64, where string) error {
 	return nil
 }
 
-// locateKnown scales x into z (affine or none), checks it and searches.
-// z is a stack buffer of the caller: nothing here may let it escape (the
-// kernels it reaches do not keep their arguments).
+// locateKnown scales x into z by the affine scaler, checks it and
+// searches. z is a stack buffer of the caller: nothing here may let it
+// escape (the kernels it reaches do not keep their arguments).
 func (m *Model) locateKnown(z, x []float64, second bool) (int, float64, float64, error) {
 	x = x[:len(z)]
-	if m.shift != nil {
-		if j := f64.Affine(z, x, m.shift, m.div); j >= 0 {
-			return -1, 0, 0, notFinite(x, j, z[j])
-		}
-		return m.searchKnown(z, second)
+	if j := f64.Affine(z, x, m.shift, m.div); j >= 0 {
+		return -1, 0, 0, notFinite(x, j, z[j])
 	}
-	for j, v := range x {
-		if v-v != 0 {
-			return -1, 0, 0, notFinite(x, j, v)
-		}
-	}
-	return m.searchKnown(x, second)
+	return m.searchKnown(z, second)
 }
 
 // notFinite reports the non-finite value s of column j of x (or of its

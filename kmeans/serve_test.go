@@ -243,6 +243,7 @@ func TestAssignErrors(t *testing.T) {
 		{"NaN", []float64{1, math.NaN()}, ErrNotFinite},
 		{"Inf", []float64{math.Inf(-1), 1}, ErrNotFinite},
 		{"overflowing distances", []float64{1e300, -1e300}, ErrNotFinite},
+		{"NaN first", []float64{math.NaN(), 1}, ErrNotFinite},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
@@ -252,6 +253,16 @@ func TestAssignErrors(t *testing.T) {
 			_, _, err = m.Nearest(c.x)
 			require.ErrorIs(t, err, c.want)
 		})
+	}
+	// Every built-in metric names a non-finite feature (the check runs only
+	// after a failed search, see Model.locate).
+	for _, metric := range []distance.Objective{distance.Manhattan{}, distance.Cosine{}} {
+		mm := newModel([]float64{0.6, 0.8, 1, 0, 0, 1}, 3, 2, metric, nil)
+		for _, x := range [][]float64{{1, math.NaN()}, {math.Inf(1), 0}, {0, math.Inf(-1)}} {
+			_, _, err := mm.Nearest(x)
+			require.ErrorIs(t, err, ErrNotFinite, metric.Name())
+			assert.Contains(t, err.Error(), "feature")
+		}
 	}
 	var zero Model
 	_, err := zero.Assign([]float64{1, 2})
