@@ -5,11 +5,11 @@ import "math"
 // unit is the unit roundoff of float64, 2⁻⁵³.
 const unit = 0x1p-53
 
-// Tiny is the absolute term of every bound: it covers the rounding of
+// tiny is the absolute term of every bound: it covers the rounding of
 // values that underflow. A product or square that underflows loses at most
 // 2⁻¹⁰⁷⁴, so a distance of d such terms loses at most √(d·2⁻¹⁰⁷⁴) ≈
-// 2⁻⁵³⁷·√d, far below Tiny for any d < 2⁷⁰.
-const Tiny = 0x1p-500
+// 2⁻⁵³⁷·√d, far below tiny for any d < 2⁷⁰.
+const tiny = 0x1p-500
 
 // Rounding bounds the floating-point error of the distances computed in d
 // dimensions, so that searches can skip a center, or accept an
@@ -28,7 +28,7 @@ const Tiny = 0x1p-500
 // for the exact f, its square root adds u/2, and a computed Manhattan
 // distance is within γ_d. Every computed distance is therefore within a
 // relative γ_{d+3} ≤ (d+4)·u of the exact one (for d·u ≤ 2⁻¹⁰), plus
-// Tiny for underflow.
+// 2⁻⁵⁰⁰ for underflow.
 //
 // Rounding uses ε = 4·(d+8)·u, more than twice γ_{d+3}/(1−γ_{d+3}) plus
 // the one rounding of each addition or subtraction that combines bounds
@@ -46,9 +46,6 @@ type Rounding struct {
 // NewRounding returns the rounding bounds of dimension d ≥ 1.
 func NewRounding(d int) Rounding { return Rounding{d: d, eps: 4 * float64(d+8) * unit} }
 
-// Eps returns the relative bound ε = 4·(d+8)·2⁻⁵³.
-func (r Rounding) Eps() float64 { return r.eps }
-
 // Up returns v rounded outwards to an upper bound: v·(1+ε).
 func (r Rounding) Up(v float64) float64 { return v * (1 + r.eps) }
 
@@ -63,9 +60,9 @@ func (r Rounding) Down(v float64) float64 {
 }
 
 // Beats reports whether the lower bound lo of one distance certainly
-// exceeds the upper bound hi of another, lo > hi·(1+ε) + Tiny, so that
+// exceeds the upper bound hi of another, lo > hi·(1+ε) + 2⁻⁵⁰⁰, so that
 // their computed losses compare strictly the same way. NaN never beats.
-func (r Rounding) Beats(lo, hi float64) bool { return lo > hi*(1+r.eps)+Tiny }
+func (r Rounding) Beats(lo, hi float64) bool { return lo > hi*(1+r.eps)+tiny }
 
 // Slack returns the bound T of Centers for a shifted row of squared norm
 // rowNorm2 and centers of squared norm at most maxNorm2: every value the
