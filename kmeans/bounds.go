@@ -9,36 +9,29 @@ import (
 	"github.com/centroidlab/centroid/internal/nearest"
 )
 
-// tauBound is the absolute slack of beats, far above underflow errors.
-const tauBound = 0x1p-500
-
 // safeMagnitude is the largest |x| and weight for which the bound solvers
 // prune: squared distances of such rows and their weighted means cannot
 // overflow for any d < 2²⁰⁰.
 const safeMagnitude = 0x1p400
 
-// rounding holds the outward rounding of one dimension d.
-type rounding struct{ eps float64 }
+// rounding is the outward rounding of one dimension d that the bound
+// solvers share with the serving search and the kernel: nearest.Rounding,
+// whose documentation derives it.
+type rounding struct{ r nearest.Rounding }
 
-func newRounding(d int) rounding { return rounding{eps: 4 * float64(d+8) * 0x1p-53} }
+func newRounding(d int) rounding { return rounding{nearest.NewRounding(d)} }
 
 // up returns v rounded outwards to an upper bound.
-func (r rounding) up(v float64) float64 { return v * (1 + r.eps) }
+func (r rounding) up(v float64) float64 { return r.r.Up(v) }
 
 // down returns v rounded outwards to a lower bound, at least 0 (also for
 // NaN).
-func (r rounding) down(v float64) float64 {
-	v *= 1 - r.eps
-	if !(v > 0) {
-		return 0
-	}
-	return v
-}
+func (r rounding) down(v float64) float64 { return r.r.Down(v) }
 
 // beats reports whether the lower bound lo of one distance certainly exceeds
 // the upper bound hi of another, so that their computed losses compare
 // strictly the same way. NaN never beats.
-func (r rounding) beats(lo, hi float64) bool { return lo > hi*(1+r.eps)+tauBound }
+func (r rounding) beats(lo, hi float64) bool { return r.r.Beats(lo, hi) }
 
 // lo32 returns the largest float32 ≤ v, at least 0.
 func lo32(v float64) float32 {

@@ -13,9 +13,10 @@ import (
 // every distance.Objective.
 //
 // Under Euclidean the pass runs the blocked kernel of internal/nearest
-// (‖c‖² − 2x·c on shifted rows, argmin fused, rows with a near-tie
-// recomputed by the direct loss), which gives exactly the assignments of
-// the direct computation; other metrics compute Metric.Loss directly. Extra memory:
+// (‖c‖² − 2x·c on shifted rows, argmin fused, in AVX-512 or AVX2 assembly
+// where the processor has it; rows with a near-tie recomputed by the
+// direct loss), which gives exactly the assignments of the direct
+// computation; other metrics compute Metric.Loss directly. Extra memory:
 // the packed centers (k·d) and, per worker, one tile of shifted rows
 // (at most 64 KiB or 16 rows).
 type Lloyd struct{}
@@ -77,7 +78,7 @@ type lloydKernel struct {
 
 func (p *lloydKernel) Assign(st *Step) {
 	sp, k, d := p.sp, p.k, p.sp.D
-	p.packed.Pack(st.Centers, k, d, nil)
+	p.packed.Pack(st.Centers, k, d)
 	tile := kernelTile(d)
 	sp.Parallel(func(b int) {
 		ks := p.pool.get()

@@ -7,7 +7,9 @@ import (
 	"time"
 
 	"github.com/centroidlab/centroid/distance"
+	"github.com/centroidlab/centroid/internal/asm/f64"
 	"github.com/centroidlab/centroid/internal/check"
+	"github.com/centroidlab/centroid/internal/nearest"
 	"github.com/centroidlab/centroid/scale"
 	"gonum.org/v1/gonum/blas/blas64"
 	"gonum.org/v1/gonum/mat"
@@ -33,7 +35,7 @@ type Model struct {
 	shift   []float64 // affine scaler: z = (x − shift)/div
 	div     []float64
 	pool    *sync.Pool   // *[]float64 scratch of length 2d (raw row, scaled row), for the general path
-	index   *searchIndex // nil: scan every center
+	set     *nearest.Set // Euclidean and Manhattan: the serving search
 
 	// Document content (see model_file.go).
 	features []string       // nil: no schema
@@ -81,8 +83,11 @@ func newModel(centers []float64, k, d int, metric distance.Objective, sc scale.S
 			}
 		}
 	}
-	if m.kind == euclidean || m.kind == manhattan {
-		m.index = newSearchIndex(m.centers, k, d, m.kind)
+	switch m.kind {
+	case euclidean:
+		m.set = nearest.NewSet(m.centers, k, d, nearest.SquaredEuclidean)
+	case manhattan:
+		m.set = nearest.NewSet(m.centers, k, d, nearest.Manhattan)
 	}
 	m.pool = &sync.Pool{New: func() any { s := make([]float64, 2*d); return &s }}
 	return m
@@ -227,12 +232,11 @@ type Assignment struct {
 // ±Inf (or scales to ±Inf), ErrMetric if the metric rejects the scaled row
 // (a zero row under Cosine), or ErrModel for a zero Model.
 //
-// Under Euclidean and Manhattan the search skips centers that provably
-// cannot be nearest (bounds from center-to-center distances and from a
-// projection, with margins for rounding) and stops summing a distance once
-// it exceeds the best so far; every center it does not skip is measured
-// with exactly the arithmetic of the metric's Loss, so the answer is the
-// one a full scan gives, bit for bit.
+// The answer is the one Cluster's assignment gives, bit for bit: under
+// Euclidean a vector kernel finds the nearest center (see
+// internal/nearest.Set) and is trusted only when no other center is within
+// its rounding bound, otherwise, and under Manhattan, every center is
+// measured with exactly the arithmetic of the metric's Loss.
 func (m *Model) Nearest(x []float64) (int, float64, error) {
 	j, loss, _, err := m.locate(x, false)
 	if err != nil {
@@ -271,7 +275,18 @@ func (m *Model) locate(x []float64, second bool) (int, float64, float64, error) 
 	if len(x) != m.d {
 		return -1, 0, 0, fmt.Errorf("%w: row has %d values, model has %d features", ErrDimension, len(x), m.d)
 	}
-	if m.kind != otherMetric && (m.scaler == nil || m.shift != nil) {
+	if m.kind != otherMetric && m.scaler == nil {
+		// A NaN or ±Inf in x makes every loss NaN or +Inf, so the search
+		// fails; only then is x checked, to name the feature.
+		j, l, l2, err := m.searchKnown(x, second)
+		if err != nil {
+			if ferr := checkFinite1(x, ""); ferr != nil {
+				return -1, 0, 0, ferr
+			}
+		}
+		return j, l, l2, err
+	}
+	if m.kind != otherMetric && m.shift != nil {
 		switch {
 		case m.d <= smallDim:
 			var buf [smallDim]float64
@@ -316,26 +331,13 @@ func checkFinite1(x []float64, where string) error {
 	return nil
 }
 
-// locateKnown scales x into z (affine or none), checks it and searches.
-// z is a stack buffer of the caller: nothing here may let it escape.
+// locateKnown scales x into z by the affine scaler, checks it and
+// searches. z is a stack buffer of the caller: nothing here may let it
+// escape (the kernels it reaches do not keep their arguments).
 func (m *Model) locateKnown(z, x []float64, second bool) (int, float64, float64, error) {
 	x = x[:len(z)]
-	if m.shift != nil {
-		shift, div := m.shift[:len(z)], m.div[:len(z)]
-		for j, v := range x {
-			s := (v - shift[j]) / div[j]
-			if s-s != 0 { // NaN or ±Inf
-				return -1, 0, 0, notFinite(x, j, s)
-			}
-			z[j] = s
-		}
-	} else {
-		for j, v := range x {
-			if v-v != 0 {
-				return -1, 0, 0, notFinite(x, j, v)
-			}
-			z[j] = v
-		}
+	if j := f64.Affine(z, x, m.shift, m.div); j >= 0 {
+		return -1, 0, 0, notFinite(x, j, z[j])
 	}
 	return m.searchKnown(z, second)
 }
@@ -371,7 +373,11 @@ func (m *Model) searchKnown(z []float64, second bool) (int, float64, float64, er
 			}
 		}
 	default:
-		best, bestLoss, secondLoss = m.searchBounded(z, second)
+		if second {
+			best, bestLoss, secondLoss = m.set.Nearest2(z)
+		} else {
+			best, bestLoss = m.set.Nearest(z)
+		}
 	}
 	if math.IsInf(bestLoss, 1) {
 		return -1, 0, 0, fmt.Errorf("%w: the distance to every center overflows", ErrNotFinite)
@@ -533,315 +539,6 @@ func (m *Model) Distances(dst, x []float64) ([]float64, error) {
 		dst[j] = v
 	}
 	return dst, nil
-}
-
-// searchIndex speeds up the exact nearest-center search under Euclidean and
-// Manhattan, both of which satisfy the triangle inequality:
-//
-//   - Centers are visited in order of their projection on one direction u
-//     (the principal axis of the centers), starting next to the row's own
-//     projection q, so a near center is usually met first. Since
-//     |q − c·u| ≤ ‖x − c‖₂ ≤ ‖x − c‖₁ for a unit u, the visit stops once
-//     the projection gap exceeds the distance to beat.
-//   - A center j is skipped when ‖c_best − c_j‖ > D_best + D_beat, where
-//     D_beat is the distance to beat (the best, or the runner-up when the
-//     margin is wanted): then ‖x − c_j‖ > D_beat by the triangle
-//     inequality.
-//   - A distance being summed is abandoned once its partial sum exceeds the
-//     loss to beat; partial sums of non-negative terms never decrease under
-//     rounding, so the full sum would exceed it too.
-//
-// Every bound carries a relative margin (boundSlack) far above the rounding
-// error of the quantities involved, so a center is only skipped when its
-// computed loss would be strictly larger than the loss to beat: the result
-// is bit-identical to a full scan, ties included.
-type searchIndex struct {
-	dir   []float64 // direction u, unit length
-	proj  []float64 // center projections c_j·u, ascending
-	err   []float64 // rounding bound of each proj entry
-	order []int     // center index of proj[i]
-	cc    []float64 // k×k distances between centers; nil if not kept
-	tol   float64   // relative rounding bound of a projection
-}
-
-const (
-	// boundSlack is the relative margin of every skip test.
-	boundSlack = 1e-9
-	// minBound is the smallest distance to beat for which the skip tests
-	// run; below it rounding near underflow is not worth reasoning about.
-	minBound = 0x1p-400
-	// maxIndexK is the largest k for which center-to-center distances are
-	// kept (k² values).
-	maxIndexK = 256
-	// minIndexK is the smallest k for which the index pays off.
-	minIndexK = 4
-)
-
-// newSearchIndex builds the index of k centers of dimension d, or returns
-// nil if it would not help or cannot be trusted (non-finite projections).
-func newSearchIndex(centers []float64, k, d int, kind metricKind) *searchIndex {
-	if k < minIndexK {
-		return nil
-	}
-	ix := &searchIndex{dir: principalAxis(centers, k, d), tol: 4 * float64(d+4) * 0x1p-53}
-	type entry struct {
-		p, e float64
-		j    int
-	}
-	entries := make([]entry, k)
-	for j := range k {
-		p, a := ix.project(centers[j*d : (j+1)*d])
-		if math.IsNaN(p) || math.IsInf(p, 0) || math.IsInf(a, 0) {
-			return nil
-		}
-		entries[j] = entry{p, ix.tol*a + 0x1p-1000*float64(d+1), j}
-	}
-	// Insertion sort keeps equal projections in index order (k is small).
-	for i := 1; i < k; i++ {
-		for j := i; j > 0 && entries[j].p < entries[j-1].p; j-- {
-			entries[j], entries[j-1] = entries[j-1], entries[j]
-		}
-	}
-	for _, e := range entries {
-		ix.proj = append(ix.proj, e.p)
-		ix.err = append(ix.err, e.e)
-		ix.order = append(ix.order, e.j)
-	}
-	if k <= maxIndexK {
-		ix.cc = make([]float64, k*k)
-		for i := range k {
-			for j := range i {
-				var v float64
-				if kind == euclidean {
-					v = math.Sqrt(distance.SqEuclidean(centers[i*d:(i+1)*d], centers[j*d:(j+1)*d]))
-				} else {
-					v = distance.Manhattan{}.Distance(centers[i*d:(i+1)*d], centers[j*d:(j+1)*d])
-				}
-				if math.IsInf(v, 0) || math.IsNaN(v) {
-					ix.cc = nil
-					return ix
-				}
-				ix.cc[i*k+j], ix.cc[j*k+i] = v, v
-			}
-		}
-	}
-	return ix
-}
-
-// project returns z·u and Σ|z_i·u_i|.
-func (ix *searchIndex) project(z []float64) (p, abs float64) {
-	u := ix.dir[:len(z)]
-	var p0, p1, a0, a1 float64
-	i := 0
-	for ; i+1 < len(z); i += 2 {
-		t0, t1 := z[i]*u[i], z[i+1]*u[i+1]
-		p0 += t0
-		p1 += t1
-		a0 += math.Abs(t0)
-		a1 += math.Abs(t1)
-	}
-	if i < len(z) {
-		t := z[i] * u[i]
-		p0 += t
-		a0 += math.Abs(t)
-	}
-	return p0 + p1, a0 + a1
-}
-
-// principalAxis returns a unit vector along the direction of largest spread
-// of the centers (power iteration from a fixed start, so it is
-// deterministic), or the first axis if the centers do not spread.
-func principalAxis(centers []float64, k, d int) []float64 {
-	mean := make([]float64, d)
-	for j := range k {
-		for i, v := range centers[j*d : (j+1)*d] {
-			mean[i] += v / float64(k)
-		}
-	}
-	v := make([]float64, d)
-	for i := range v {
-		v[i] = 1 + float64(i)/float64(d)
-	}
-	t := make([]float64, k)
-	for range 40 {
-		for j := range k {
-			var s float64
-			for i, c := range centers[j*d : (j+1)*d] {
-				s += (c - mean[i]) * v[i]
-			}
-			t[j] = s
-		}
-		clear(v)
-		for j := range k {
-			for i, c := range centers[j*d : (j+1)*d] {
-				v[i] += (c - mean[i]) * t[j]
-			}
-		}
-		var norm float64
-		for _, x := range v {
-			norm = math.Hypot(norm, x)
-		}
-		if !(norm > 0) || math.IsInf(norm, 0) {
-			clear(v)
-			v[0] = 1
-			return v
-		}
-		for i := range v {
-			v[i] /= norm
-		}
-	}
-	return v
-}
-
-// sqEuclideanBelow returns distance.SqEuclidean(z, c), computed with the
-// same operations in the same order, or +Inf as soon as a partial sum
-// exceeds lim.
-func sqEuclideanBelow(z, c []float64, lim float64) float64 {
-	c = c[:len(z)]
-	var s0, s1 float64
-	i := 0
-	for ; i+3 < len(z); i += 4 {
-		d0 := z[i] - c[i]
-		d1 := z[i+1] - c[i+1]
-		s0 += d0 * d0
-		s1 += d1 * d1
-		d0 = z[i+2] - c[i+2]
-		d1 = z[i+3] - c[i+3]
-		s0 += d0 * d0
-		s1 += d1 * d1
-		if s0+s1 > lim {
-			return math.Inf(1)
-		}
-	}
-	for ; i+1 < len(z); i += 2 {
-		d0 := z[i] - c[i]
-		d1 := z[i+1] - c[i+1]
-		s0 += d0 * d0
-		s1 += d1 * d1
-	}
-	if i < len(z) {
-		d := z[i] - c[i]
-		s0 += d * d
-	}
-	return s0 + s1
-}
-
-// manhattanBelow returns distance.Manhattan{}.Distance(z, c), computed with
-// the same operations in the same order, or +Inf as soon as a partial sum
-// exceeds lim.
-func manhattanBelow(z, c []float64, lim float64) float64 {
-	c = c[:len(z)]
-	var s float64
-	for i, v := range z {
-		s += math.Abs(v - c[i])
-		if i&3 == 3 && s > lim {
-			return math.Inf(1)
-		}
-	}
-	return s
-}
-
-// searchBounded returns the nearest center of z under Euclidean or
-// Manhattan, its loss and, if second, the runner-up's loss (+Inf when there
-// is none; when !second the third value is meaningless).
-func (m *Model) searchBounded(z []float64, second bool) (int, float64, float64) {
-	k, d := m.k, m.d
-	euclid := m.kind == euclidean
-	best, bestLoss, secondLoss := -1, math.Inf(1), math.Inf(1)
-	lim := math.Inf(1) // loss to beat
-	// consider measures center j and updates the state.
-	consider := func(j int) {
-		var l float64
-		if euclid {
-			l = sqEuclideanBelow(z, m.centers[j*d:(j+1)*d], lim)
-		} else {
-			l = manhattanBelow(z, m.centers[j*d:(j+1)*d], lim)
-		}
-		switch {
-		case l < bestLoss || (l == bestLoss && j < best):
-			best, bestLoss, secondLoss = j, l, bestLoss
-		case l < secondLoss:
-			secondLoss = l
-		default:
-			return
-		}
-		if second {
-			lim = secondLoss
-		} else {
-			lim = bestLoss
-		}
-	}
-	ix := m.index
-	if ix == nil {
-		for j := range k {
-			consider(j)
-		}
-		return best, bestLoss, secondLoss
-	}
-	q, qa := ix.project(z)
-	qerr := ix.tol*qa + 0x1p-1000*float64(d+1)
-	// First projection ≥ q: counted for small k (no mispredicted
-	// branches), by bisection otherwise.
-	lo := 0
-	if k <= 64 {
-		for _, p := range ix.proj {
-			lo += b2i(p < q)
-		}
-	} else {
-		hi := k
-		for lo < hi {
-			mid := int(uint(lo+hi) >> 1)
-			if ix.proj[mid] < q {
-				lo = mid + 1
-			} else {
-				hi = mid
-			}
-		}
-	}
-	left, right := lo-1, lo
-	beat, skip := math.Inf(1), math.Inf(1) // distance to beat; skip threshold on cc
-	var row []float64                      // cc row of the current best
-	for left >= 0 || right < k {
-		var pos int
-		var gap float64
-		if right >= k || (left >= 0 && q-ix.proj[left] <= ix.proj[right]-q) {
-			pos, gap = left, q-ix.proj[left]
-			left--
-		} else {
-			pos, gap = right, ix.proj[right]-q
-			right++
-		}
-		if gap-qerr-ix.err[pos] > beat {
-			break // this and every later center is farther than beat
-		}
-		j := ix.order[pos]
-		if row != nil && row[j] > skip {
-			continue
-		}
-		prevBest, prevLim := best, lim
-		consider(j)
-		if lim == prevLim && best == prevBest {
-			continue
-		}
-		// Refresh the thresholds from the new best / limit.
-		beat, skip = math.Inf(1), math.Inf(1)
-		if dl := m.lossToDistance(lim); dl >= minBound && !math.IsInf(dl, 1) {
-			beat = dl * (1 + boundSlack)
-			if ix.cc != nil {
-				skip = (m.lossToDistance(bestLoss) + dl) * (1 + boundSlack)
-				row = ix.cc[best*k : (best+1)*k]
-			}
-		}
-	}
-	return best, bestLoss, secondLoss
-}
-
-// b2i returns 1 for true and 0 for false.
-func b2i(b bool) int {
-	if b {
-		return 1
-	}
-	return 0
 }
 
 // HasSchema reports whether the model carries feature names (see

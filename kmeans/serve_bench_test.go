@@ -5,8 +5,10 @@ import (
 	"context"
 	"encoding/json"
 	"fmt"
+	"math/rand/v2"
 	"testing"
 
+	"github.com/centroidlab/centroid/distance"
 	"github.com/centroidlab/centroid/scale"
 	"gonum.org/v1/gonum/mat"
 )
@@ -66,6 +68,104 @@ func BenchmarkServeAssignBatch(b *testing.B) {
 				}
 			}
 			b.ReportMetric(float64(serveRows)*float64(b.N)/b.Elapsed().Seconds(), "rows/s")
+		})
+	}
+}
+
+// variantRows is the number of training rows the variant benchmarks rotate
+// through.
+const variantRows = 20000
+
+// spreadBlobs returns n rows around k centers uniform in [0, 100]^d with
+// standard deviation sd in every coordinate: sd = 1 gives well-separated
+// clusters, sd = 20 overlapping ones.
+func spreadBlobs(n, d, k int, sd float64, seed uint64) *mat.Dense {
+	rnd := rand.New(rand.NewPCG(seed, 11))
+	c := make([]float64, k*d)
+	for i := range c {
+		c[i] = rnd.Float64() * 100
+	}
+	x := mat.NewDense(n, d, nil)
+	for i := range n {
+		j := rnd.IntN(k)
+		for t := range d {
+			x.Set(i, t, c[j*d+t]+rnd.NormFloat64()*sd)
+		}
+	}
+	return x
+}
+
+// serveVariants are the searches BenchmarkServeVariants compares with
+// Model.Nearest: a plain scan and the pruning layers, cumulative.
+var serveVariants = []struct {
+	name string
+	v    variant
+}{
+	{"plain", variant{}},
+	{"abandon", variant{abandon: true}},
+	{"projection", variant{abandon: true, projection: true}},
+	{"skip", variant{abandon: true, projection: true, skip: true}},
+}
+
+// BenchmarkServeVariants times Model.Nearest ("nearest": the vector kernel
+// with its exact recheck, or with -tags purego the interleaved scan)
+// against a plain scan of one center at a time with distance.SqEuclidean's
+// arithmetic ("plain") and the pruning layers of the search it replaced,
+// cumulative: early abandon, projection order, center–center skips. Data:
+// well-separated and overlapping clusters, rows rotating through the
+// training rows; select with e.g. -bench 'ServeVariants/overlap/d=16'.
+func BenchmarkServeVariants(b *testing.B) {
+	for _, kind := range []struct {
+		name string
+		sd   float64
+	}{{"separated", 1}, {"overlap", 20}} {
+		for _, s := range []struct{ d, k int }{{2, 8}, {16, 32}, {64, 256}} {
+			b.Run(fmt.Sprintf("%s/d=%d/k=%d", kind.name, s.d, s.k), func(b *testing.B) {
+				x := spreadBlobs(variantRows, s.d, s.k, kind.sd, 3)
+				res, err := Cluster(context.Background(), Problem{Data: x, K: s.k}, &Settings{Restarts: 1, Seed: 1, MaxIterations: 20}, Lloyd{})
+				if err != nil {
+					b.Fatal(err)
+				}
+				m := res.Model
+				b.Run("nearest", func(b *testing.B) {
+					b.ReportAllocs()
+					for i := 0; b.Loop(); i++ {
+						if _, _, err := m.Nearest(x.RawRowView(i % variantRows)); err != nil {
+							b.Fatal(err)
+						}
+					}
+				})
+				ix := newSearchIndex(m.centers, m.k, m.d, m.kind)
+				for _, v := range serveVariants {
+					b.Run(v.name, func(b *testing.B) {
+						b.ReportAllocs()
+						var sink int
+						for i := 0; b.Loop(); i++ {
+							j, _, _ := m.searchVariant(ix, v.v, x.RawRowView(i%variantRows), false)
+							sink += j
+						}
+						_ = sink
+					})
+				}
+			})
+		}
+	}
+}
+
+// BenchmarkServeBuild times making a model of many centers (the serving
+// search is built in newModel), at the sizes that once took seconds.
+func BenchmarkServeBuild(b *testing.B) {
+	for _, s := range []struct{ k, d int }{{80000, 1}, {174000, 6}} {
+		b.Run(fmt.Sprintf("k=%d/d=%d", s.k, s.d), func(b *testing.B) {
+			rnd := rand.New(rand.NewPCG(1, 2))
+			c := make([]float64, s.k*s.d)
+			for i := range c {
+				c[i] = rnd.NormFloat64()
+			}
+			b.ReportAllocs()
+			for b.Loop() {
+				newModel(c, s.k, s.d, distance.Euclidean{}, nil)
+			}
 		})
 	}
 }

@@ -172,21 +172,53 @@ func TestSearchScaled(t *testing.T) {
 	}
 }
 
-// TestKernelsBitIdentical checks that the abandoning kernels, when not
-// abandoning, compute the metric's own loss bit for bit.
-func TestKernelsBitIdentical(t *testing.T) {
-	rnd := rand.New(rand.NewPCG(2, 2))
-	for d := 1; d <= 41; d++ {
-		for range 50 {
-			z, c := make([]float64, d), make([]float64, d)
-			for i := range z {
-				z[i] = rnd.NormFloat64() * math.Pow(10, float64(rnd.IntN(8)-4))
-				c[i] = rnd.NormFloat64()
+// TestServeTrainingRows: on well-separated and on overlapping clusters,
+// Nearest and Assign return every training row's Result.Assignments, with
+// the distance bits of distance.SqEuclidean (the argmin Lloyd's direct
+// recheck defines), with and without a z-score scaler.
+func TestServeTrainingRows(t *testing.T) {
+	for _, sd := range []float64{1, 20} {
+		for _, sc := range []scale.Scaler{nil, &scale.ZScore{}} {
+			x := spreadBlobs(3000, 16, 32, sd, 6)
+			res, err := Cluster(context.Background(), Problem{Data: x, K: 32, Scaler: sc}, &Settings{Restarts: 1, Seed: 2}, Lloyd{})
+			require.NoError(t, err)
+			m := res.Model
+			for i := range 3000 {
+				row := x.RawRowView(i)
+				j, dist, err := m.Nearest(row)
+				require.NoError(t, err)
+				require.Equal(t, res.Assignments[i], j, "sd %v row %d", sd, i)
+				z := append([]float64(nil), row...)
+				if m.scaler != nil {
+					m.scaler.Apply(z, row)
+				}
+				require.Equal(t, math.Sqrt(distance.SqEuclidean(z, m.centers[j*16:(j+1)*16])), dist, "row %d", i)
+				a, err := m.Assign(row)
+				require.NoError(t, err)
+				require.Equal(t, scanAssign(distance.Euclidean{}, m.scaler, m.centers, 32, row), a, "row %d", i)
 			}
-			require.Equal(t, math.Float64bits(distance.SqEuclidean(z, c)), math.Float64bits(sqEuclideanBelow(z, c, math.Inf(1))), "d=%d", d)
-			require.Equal(t, math.Float64bits(distance.Manhattan{}.Distance(z, c)), math.Float64bits(manhattanBelow(z, c, math.Inf(1))), "d=%d", d)
-			full := distance.SqEuclidean(z, c)
-			assert.True(t, math.IsInf(sqEuclideanBelow(z, c, full/4), 1) || sqEuclideanBelow(z, c, full/4) == full)
+		}
+	}
+}
+
+// TestServeLargeK: a model with many centers (as a document may carry)
+// answers exactly as a brute-force scan, under both metrics the serving
+// search handles.
+func TestServeLargeK(t *testing.T) {
+	rnd := rand.New(rand.NewPCG(9, 9))
+	const k, d = 20000, 3
+	c := make([]float64, k*d)
+	for i := range c {
+		c[i] = float64(rnd.IntN(200)) // duplicates and ties
+	}
+	for _, metric := range []distance.Objective{distance.Euclidean{}, distance.Manhattan{}} {
+		m := newModel(c, k, d, metric, nil)
+		for range 100 {
+			q := []float64{rnd.Float64() * 200, float64(rnd.IntN(200)), rnd.NormFloat64() * 100}
+			want := scanAssign(metric, nil, c, k, q)
+			got, err := m.Assign(q)
+			require.NoError(t, err)
+			require.Equal(t, want, got, metric.Name())
 		}
 	}
 }
@@ -211,6 +243,7 @@ func TestAssignErrors(t *testing.T) {
 		{"NaN", []float64{1, math.NaN()}, ErrNotFinite},
 		{"Inf", []float64{math.Inf(-1), 1}, ErrNotFinite},
 		{"overflowing distances", []float64{1e300, -1e300}, ErrNotFinite},
+		{"NaN first", []float64{math.NaN(), 1}, ErrNotFinite},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
@@ -220,6 +253,16 @@ func TestAssignErrors(t *testing.T) {
 			_, _, err = m.Nearest(c.x)
 			require.ErrorIs(t, err, c.want)
 		})
+	}
+	// Every built-in metric names a non-finite feature (the check runs only
+	// after a failed search, see Model.locate).
+	for _, metric := range []distance.Objective{distance.Manhattan{}, distance.Cosine{}} {
+		mm := newModel([]float64{0.6, 0.8, 1, 0, 0, 1}, 3, 2, metric, nil)
+		for _, x := range [][]float64{{1, math.NaN()}, {math.Inf(1), 0}, {0, math.Inf(-1)}} {
+			_, _, err := mm.Nearest(x)
+			require.ErrorIs(t, err, ErrNotFinite, metric.Name())
+			assert.Contains(t, err.Error(), "feature")
+		}
 	}
 	var zero Model
 	_, err := zero.Assign([]float64{1, 2})

@@ -4,9 +4,11 @@ import (
 	"context"
 	"fmt"
 	"testing"
+	"time"
 
 	"github.com/centroidlab/centroid/internal/data/reference"
 	"github.com/centroidlab/centroid/internal/data/synth"
+	"github.com/centroidlab/centroid/seeding"
 	"gonum.org/v1/gonum/mat"
 )
 
@@ -99,4 +101,42 @@ func digits(n int) int {
 		e++
 	}
 	return e
+}
+
+// BenchmarkLloydPass times Lloyd passes from one fixed start on n = 10⁵
+// rows of the 50-blob mixture, one worker: the time of a 20-pass Cluster
+// call minus that of a 10-pass call, divided by 10, so that seeding, the
+// final cost and the training summary cancel out. It reports that pass
+// time and the rate in GFLOP/s-equivalent (2·n·d·k per pass, the products
+// the assignment needs).
+func BenchmarkLloydPass(b *testing.B) {
+	for _, s := range []struct{ d, k int }{{16, 64}, {32, 64}, {64, 256}} {
+		b.Run(fmt.Sprintf("d=%d/k=%d", s.d, s.k), func(b *testing.B) {
+			const n = 100000
+			x := synth.Blobs(n, s.d, synth.GridClusters, 1)
+			start := mat.NewDense(s.k, s.d, nil)
+			for j := range s.k {
+				start.SetRow(j, x.RawRowView(j*(n/s.k)))
+			}
+			run := func(passes int) time.Duration {
+				t0 := time.Now()
+				res, err := Cluster(context.Background(), Problem{Data: x, K: s.k, Seeder: seeding.Given{Centers: start}},
+					&Settings{Restarts: 1, MaxIterations: passes, Workers: 1}, Lloyd{})
+				if err != nil {
+					b.Fatal(err)
+				}
+				if res.Iterations != passes {
+					b.Fatalf("converged after %d passes", res.Iterations)
+				}
+				return time.Since(t0)
+			}
+			var pass time.Duration
+			for b.Loop() {
+				pass += (run(20) - run(10)) / 10
+			}
+			secs := pass.Seconds() / float64(b.N)
+			b.ReportMetric(secs*1e3, "ms/pass")
+			b.ReportMetric(2*float64(n*s.d*s.k)/secs/1e9, "GFLOP/s")
+		})
+	}
 }

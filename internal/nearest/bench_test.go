@@ -11,7 +11,7 @@ import (
 
 // Shapes (rows m, dimension d, centers k) of the kernel benchmarks.
 var benchShapes = []struct{ m, d, k int }{
-	{4096, 2, 64}, {4096, 16, 64}, {4096, 64, 64}, {4096, 256, 256}, {4096, 16, 256}, {4096, 2, 8},
+	{4096, 2, 64}, {4096, 16, 64}, {4096, 64, 64}, {4096, 256, 256}, {4096, 16, 256}, {4096, 2, 8}, {100000, 32, 64},
 }
 
 func randRows(rnd *rand.Rand, m, d int, off float64) []float64 {
@@ -31,7 +31,7 @@ func BenchmarkSearch(b *testing.B) {
 			x := randRows(rnd, s.m, s.d, 0)
 			cs := randRows(rnd, s.k, s.d, 0)
 			var c Centers
-			c.Pack(cs, s.k, s.d, nil)
+			c.Pack(cs, s.k, s.d)
 			var sr Searcher
 			dst := make([]int, s.m)
 			const tile = 256

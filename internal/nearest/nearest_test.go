@@ -7,6 +7,7 @@ import (
 	"math/rand/v2"
 	"testing"
 
+	"github.com/centroidlab/centroid/distance"
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
 )
@@ -129,7 +130,7 @@ func TestAssignExact(t *testing.T) {
 		for _, tile := range []int{1, 5, 64, 4096} {
 			t.Run(fmt.Sprintf("%s/tile=%d", s.name, tile), func(t *testing.T) {
 				var c Centers
-				c.Pack(s.c, s.k, s.d, nil)
+				c.Pack(s.c, s.k, s.d)
 				var sr Searcher
 				got := make([]int, s.m)
 				rechecked := 0
@@ -155,127 +156,106 @@ func TestSlackBound(t *testing.T) {
 	for _, s := range adversarialSets() {
 		t.Run(s.name, func(t *testing.T) {
 			var c Centers
-			c.Pack(s.c, s.k, s.d, nil)
+			c.Pack(s.c, s.k, s.d)
 			var sr Searcher
 			m := min(s.m, 40)
-			sr.Load(s.x, m, &c)
+			sr.load(s.x, m, &c)
 			for j := range s.k {
-				sr.Scan(&c, j, j+1)
+				sr.scan(&c, j, j+1)
 				for i := range m {
 					x, cj := s.x[i*s.d:(i+1)*s.d], s.c[j*s.d:(j+1)*s.d]
 					exact, _ := exactSq(x, cj).Float64()
-					approx := sr.Best[i] + sr.R2[i]
-					require.LessOrEqual(t, math.Abs(approx-exact), sr.Slack[i], "row %d center %d", i, j)
-					require.LessOrEqual(t, math.Abs(approx-directSq(x, cj)), sr.Slack[i], "row %d center %d", i, j)
-					lo, hi := sr.Bounds(i, sr.Best[i])
-					require.LessOrEqual(t, lo, exact)
-					require.GreaterOrEqual(t, hi, exact)
+					approx := sr.best[i] + sr.r2[i]
+					require.LessOrEqual(t, math.Abs(approx-exact), sr.slack[i], "row %d center %d", i, j)
+					require.LessOrEqual(t, math.Abs(approx-directSq(x, cj)), sr.slack[i], "row %d center %d", i, j)
+					// The bounds a search derives, rounded as it rounds them.
+					require.LessOrEqual(t, approx-sr.slack[i], exact)
+					require.GreaterOrEqual(t, approx+sr.slack[i], exact)
 				}
 			}
 		})
 	}
 }
 
-// TestBest2Loop compares Best2 with the loop in its documentation (dot
-// products summed in index order) on random shapes, and checks that it
-// writes nothing beyond the m rows (NaN sentinels, as gonum's internal/asm
-// tests guard dst).
-func TestBest2Loop(t *testing.T) {
-	rnd := rand.New(rand.NewPCG(7, 7))
-	for trial := range 300 {
-		m, k, d := rnd.IntN(11), 1+rnd.IntN(9), 1+rnd.IntN(13)
-		x := make([]float64, m*d)
-		c := make([]float64, k*d)
-		for i := range x {
-			x[i] = rnd.NormFloat64()
-		}
-		for i := range c {
-			c[i] = rnd.NormFloat64()
-		}
-		norm2 := make([]float64, k)
-		for j := range k {
-			for _, v := range c[j*d : (j+1)*d] {
-				norm2[j] += v * v
-			}
-		}
-		const pad = 3
-		idx := make([]int, m+pad)
-		best := make([]float64, m+pad)
-		second := make([]float64, m+pad)
-		for i := range best {
-			idx[i], best[i], second[i] = -7, math.Inf(1), math.Inf(1)
-			if i >= m {
-				best[i], second[i] = math.NaN(), math.NaN()
-			}
-		}
-		Best2(idx[:m], best, second, x, d, c, norm2, 10)
-		for i := range m {
-			wantIdx, wantB, wantS := -7, math.Inf(1), math.Inf(1)
-			for j := range k {
-				var dot float64
-				for t := range d {
-					dot += x[i*d+t] * c[j*d+t]
-				}
-				v := norm2[j] - 2*dot
-				if v < wantB {
-					wantS, wantB, wantIdx = wantB, v, 10+j
-				} else if v < wantS {
-					wantS = v
-				}
-			}
-			tol := 1e-12 * (1 + math.Abs(wantB))
-			require.InDelta(t, wantB, best[i], tol, "trial %d row %d", trial, i)
-			if !math.IsInf(wantS, 1) {
-				require.InDelta(t, wantS, second[i], 1e-12*(1+math.Abs(wantS)))
-			}
-			if wantS-wantB > 1e-9 {
-				require.Equal(t, wantIdx, idx[i])
-			}
-		}
-		// The exported kernel equals the pure-Go fallback bit for bit (this
-		// compares a SIMD Best2 with it once one exists).
-		gIdx, gBest, gSecond := make([]int, m), make([]float64, m), make([]float64, m)
-		for i := range m {
-			gIdx[i], gBest[i], gSecond[i] = -7, math.Inf(1), math.Inf(1)
-		}
-		best2Go(gIdx, gBest, gSecond, x, d, c, norm2, 10)
-		require.Equal(t, gIdx, idx[:m])
-		require.Equal(t, gBest, best[:m])
-		require.Equal(t, gSecond, second[:m])
-		for i := m; i < m+pad; i++ {
-			require.Equal(t, -7, idx[i])
-			require.True(t, math.IsNaN(best[i]) && math.IsNaN(second[i]), "wrote past m")
-		}
-	}
-}
-
 func TestPanics(t *testing.T) {
 	var c Centers
-	assert.Panics(t, func() { c.Pack([]float64{1, 2}, 2, 2, nil) })
-	assert.Panics(t, func() { c.Pack([]float64{1, 2}, 1, 2, []int{0, 1}) })
-	assert.Panics(t, func() {
-		Best2(make([]int, 2), make([]float64, 1), make([]float64, 2), make([]float64, 4), 2, make([]float64, 2), make([]float64, 1), 0)
-	})
-	c.Pack([]float64{1, 2}, 1, 2, nil)
+	assert.Panics(t, func() { c.Pack([]float64{1, 2}, 2, 2) })
+	assert.Panics(t, func() { c.Pack([]float64{1, 2}, 1, 0) })
+	c.Pack([]float64{1, 2}, 1, 2)
 	var s Searcher
-	assert.Panics(t, func() { s.Load([]float64{1}, 1, &c) })
-	s.Load([]float64{1, 2}, 1, &c)
-	assert.Panics(t, func() { s.Scan(&c, 0, 2) })
+	assert.Panics(t, func() { s.Assign(make([]int, 1), []float64{1}, 1, &c, nil) })
+	assert.Panics(t, func() { s.Assign(nil, []float64{1, 2}, 1, &c, nil) })
+	assert.Panics(t, func() { NewSet([]float64{1, 2}, 2, 2, SquaredEuclidean) })
+	assert.Panics(t, func() { NewSet([]float64{1, 2}, 1, 2, 0) })
+	assert.Panics(t, func() { NewSet([]float64{1, 2}, 1, 2, Manhattan).Nearest([]float64{1}) })
 }
 
-// TestPackOrder: packed centers follow the order and Index maps back; the
-// shift is the mean of the centers.
-func TestPackOrder(t *testing.T) {
+// TestPackShift: packed centers are shifted by the mean of the centers,
+// with their squared norms.
+func TestPackShift(t *testing.T) {
 	var c Centers
-	c.Pack([]float64{0, 0, 4, 0, 2, 6}, 3, 2, []int{2, 0, 1})
-	assert.Equal(t, []float64{2, 2}, c.Shift)
-	assert.Equal(t, []float64{0, 4, -2, -2, 2, -2}, c.C)
-	assert.Equal(t, []float64{16, 8, 8}, c.Norm2)
-	assert.Equal(t, 4.0, c.MaxNorm)
-	assert.Equal(t, 2, c.Index(0))
-	assert.Equal(t, 1, c.Index(2))
+	c.Pack([]float64{0, 0, 4, 0, 2, 6}, 3, 2)
+	assert.Equal(t, []float64{2, 2}, c.shift)
+	assert.Equal(t, []float64{-2, -2, 2, -2, 0, 4}, c.c)
+	assert.Equal(t, []float64{8, 8, 16}, c.norm2)
+	assert.Equal(t, 16.0, c.maxNorm2)
 	var s Searcher
-	s.Load([]float64{4, 1}, 1, &c)
-	s.Scan(&c, 0, 3)
-	assert.Equal(t, 1, c.Index(s.Idx[0])) // (4,1) is nearest to center 1, (4,0)
+	dst := make([]int, 1)
+	s.Assign(dst, []float64{4, 1}, 1, &c, nil)
+	assert.Equal(t, 1, dst[0]) // (4,1) is nearest to center 1, (4,0)
+}
+
+// TestRoundingBrackets: for computed Euclidean and Manhattan distances
+// (distance.SqEuclidean's square root, distance.Manhattan's sum) of random
+// rows with heavy cancellation, Down and Up bracket the exact distance
+// (math/big), and Beats never claims an order that the exact distances
+// contradict — the two properties the bound solvers rely on.
+func TestRoundingBrackets(t *testing.T) {
+	rnd := rand.New(rand.NewPCG(12, 12))
+	for d := 1; d <= 64; d++ {
+		r := NewRounding(d)
+		for range 40 {
+			x, c := make([]float64, d), make([]float64, d)
+			for i := range x {
+				off := math.Pow(10, float64(rnd.IntN(30)-10))
+				x[i] = off + rnd.NormFloat64()*off*1e-6
+				c[i] = off + rnd.NormFloat64()*off*1e-6
+			}
+			exact, _ := new(big.Float).Sqrt(exactSq(x, c)).Float64()
+			e := math.Sqrt(distance.SqEuclidean(x, c))
+			require.LessOrEqual(t, r.Down(e), exact, "d=%d", d)
+			require.GreaterOrEqual(t, r.Up(e), exact, "d=%d", d)
+			var man big.Float
+			man.SetPrec(4096)
+			for i := range x {
+				var v big.Float
+				v.SetPrec(4096).Sub(big.NewFloat(x[i]), big.NewFloat(c[i]))
+				man.Add(&man, v.Abs(&v))
+			}
+			exactMan, _ := man.Float64()
+			mh := distance.Manhattan{}.Distance(x, c)
+			require.LessOrEqual(t, r.Down(mh), exactMan)
+			require.GreaterOrEqual(t, r.Up(mh), exactMan)
+			// Beats on the bounds of two distances implies their exact
+			// order: a second center, near the first so that the two are
+			// often within rounding of each other.
+			c2 := append([]float64(nil), c...)
+			c2[rnd.IntN(d)] *= 1 + float64(rnd.IntN(3)-1)*0x1p-50
+			exact2, _ := new(big.Float).Sqrt(exactSq(x, c2)).Float64()
+			e2 := math.Sqrt(distance.SqEuclidean(x, c2))
+			if r.Beats(r.Down(e), r.Up(e2)) {
+				require.Greater(t, exact, exact2)
+			}
+			if r.Beats(r.Down(e2), r.Up(e)) {
+				require.Greater(t, exact2, exact)
+			}
+		}
+	}
+	r := NewRounding(16)
+	require.Zero(t, r.Down(math.NaN()))
+	require.False(t, r.Beats(math.NaN(), 1))
+	require.False(t, r.Beats(1, 1))
+	require.True(t, math.IsInf(r.Slack(math.Inf(1), 1), 1))
+	require.True(t, math.IsInf(r.Slack(math.NaN(), 1), 1))
+	require.Greater(t, r.Slack(3, 4), float64(2*16+16)*0x1p-53*(math.Sqrt(3)+2)*(math.Sqrt(3)+2))
 }

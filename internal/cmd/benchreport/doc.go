@@ -1,6 +1,12 @@
 // Command benchreport measures centroid's k-means solvers and its
 // assignment kernel and prints Markdown tables for BENCHMARKS.md.
 //
+// It first measures the one-thread peak of the kernel's vectors
+// (internal/asm/f64.PeakLoop: twelve independent chains of fused
+// multiply-adds) and, for the -pass shapes, the time of one Lloyd pass
+// (a 20-pass run minus a 10-pass run from one fixed start, over 10) on 1
+// and 2 workers, its rate as a share of the peak, and whole Cluster calls.
+//
 // For every shared dataset and every cell of the grid (n rows, d
 // dimensions, k clusters, on seeded blobs from internal/synth) it runs
 // kmeans.Cluster once per solver with one restart, seed 1 and the same pass
@@ -13,7 +19,7 @@
 // a naive triple loop on the same rows×d×k shape (1 and 2 threads), and
 // every solver with 1 and 2 workers on the cells the -workers flags select.
 //
-//	go run ./internal/cmd/benchreport -n 1e4,1e5 -d 2,16,64,256 -k 8,64,256 -iters 30 -reps 1
+//	go run ./internal/cmd/benchreport -n 1e4,1e5 -d 2,16,32,64,256 -k 8,64,256 -iters 30 -reps 1 -rows 100000
 //
 // Every solver is exact, so all of them run the same passes (the command
 // stops if a solver's passes or cost differ from Lloyd's); wall times

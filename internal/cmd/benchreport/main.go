@@ -14,6 +14,7 @@ import (
 	"time"
 
 	"github.com/centroidlab/centroid/distance"
+	"github.com/centroidlab/centroid/internal/asm/f64"
 	"github.com/centroidlab/centroid/internal/data/reference"
 	"github.com/centroidlab/centroid/internal/data/synth"
 	"github.com/centroidlab/centroid/internal/nearest"
@@ -38,12 +39,19 @@ func main() {
 		wk      = flag.String("workers-k", "8,64,256", "clusters at which 1 and 2 workers are compared")
 		sets    = flag.String("sets", "s1,s2,s3,s4,a1,a2,a3,unbalance,letter", "shared datasets to run (empty: none)")
 		maxCost = flag.Float64("max-gflop", 2000, "skip grid cells whose Lloyd run would exceed this many GFLOP (2·n·d·k·iters)")
+		pass    = flag.String("pass", "16:64,32:64,64:256", "d:k shapes of the Lloyd pass table (empty: none)")
+		passN   = flag.Int("pass-n", 1e5, "rows of the Lloyd pass table")
 	)
 	flag.Parse()
 	cfg := config{iters: *iters, reps: max(1, *reps), rows: *rows, naiveRows: *naive, workersN: parseInts(*workers)[0], maxGFLOP: *maxCost,
 		workersD: set(parseInts(*wd)), workersK: set(parseInts(*wk))}
 	fmt.Printf("# benchreport\n\n%s, GOMAXPROCS %d, %s\n\n", runtime.Version(), runtime.GOMAXPROCS(0), cpuName())
 	fmt.Printf("flags: %s\n\n", strings.Join(os.Args[1:], " "))
+	cfg.peak = peakRate()
+	fmt.Printf("Kernel: %s. One-thread peak (f64.PeakLoop, 12 chains of vector fused multiply-adds): %.1f GFLOP/s.\n\n", f64.Kernel(), cfg.peak/1e9)
+	if *pass != "" {
+		cfg.passes(*passN, parseShapes(*pass))
+	}
 	if *sets != "" {
 		cfg.datasets(strings.Split(*sets, ","))
 	}
@@ -52,7 +60,7 @@ func main() {
 
 type config struct {
 	iters, reps, rows, naiveRows, workersN int
-	maxGFLOP                               float64
+	maxGFLOP, peak                         float64
 	workersD, workersK                     map[int]bool
 }
 
@@ -204,7 +212,7 @@ func (c config) grid(ns, ds, ks []int) {
 	fmt.Println("## Assignment kernel vs gonum Dgemm vs naive loop (GFLOP/s, 2·rows·d·k flops)")
 	fmt.Println()
 	fmt.Printf("Rows: min(n, %d) (naive: min(n, %d)); centers: the first k rows. Kernel = nearest.Searcher.Assign (shift, dot products, fused argmin, rechecks) in tiles as Lloyd runs it; Dgemm = blas64.Gemm(NoTrans, Trans) writing the rows×k product; naive = i, j, t triple loop writing the rows×k product. Threads: GOMAXPROCS 1, then 2 (kernel: rows split in two goroutines).\n\n", c.rows, c.naiveRows)
-	fmt.Println("| d | k | kernel 1T | Dgemm 1T | naive 1T | kernel ÷ Dgemm 1T | kernel 2T | Dgemm 2T | kernel ÷ Dgemm 2T |\n|---|---|---|---|---|---|---|---|---|")
+	fmt.Println("| d | k | kernel 1T | Dgemm 1T | naive 1T | kernel ÷ peak 1T | kernel ÷ Dgemm 1T | kernel 2T | Dgemm 2T | kernel ÷ Dgemm 2T |\n|---|---|---|---|---|---|---|---|---|---|")
 	seen := map[[2]int]bool{}
 	for _, ce := range kern {
 		if seen[[2]int{ce.d, ce.k}] {
@@ -242,7 +250,7 @@ func (c config) kernelRow(d, k int) {
 	cs := x[:k*d]
 	flops := func(rows int) float64 { return 2 * float64(rows) * float64(d) * float64(k) }
 	var packed nearest.Centers
-	packed.Pack(cs, k, d, nil)
+	packed.Pack(cs, k, d)
 	direct := func(i, j int) float64 { return distance.SqEuclidean(x[i*d:(i+1)*d], cs[j*d:(j+1)*d]) }
 	kernel := func(lo, hi int) {
 		var s nearest.Searcher
@@ -283,7 +291,81 @@ func (c config) kernelRow(d, k int) {
 	})
 	g2 := flops(n) / c.best(gemm)
 	runtime.GOMAXPROCS(prev)
-	fmt.Printf("| %d | %d | %.2f | %.2f | %.2f | %.2f | %.2f | %.2f | %.2f |\n", d, k, k1/1e9, g1/1e9, n1/1e9, k1/g1, k2/1e9, g2/1e9, k2/g2)
+	fmt.Printf("| %d | %d | %.2f | %.2f | %.2f | %.0f%% | %.2f | %.2f | %.2f | %.2f |\n", d, k, k1/1e9, g1/1e9, n1/1e9, 100*k1/c.peak, k1/g1, k2/1e9, g2/1e9, k2/g2)
+}
+
+// peakRate returns the one-thread rate of f64.PeakLoop in flop/s (the
+// fastest of five runs).
+func peakRate() float64 {
+	prev := runtime.GOMAXPROCS(1)
+	defer runtime.GOMAXPROCS(prev)
+	best := 0.0
+	for range 5 {
+		start := time.Now()
+		flops := f64.PeakLoop(1 << 22)
+		best = math.Max(best, flops/time.Since(start).Seconds())
+	}
+	return best
+}
+
+// passes prints the Lloyd pass table: for each d:k shape, n rows of the
+// 50-blob mixture from one fixed start (rows j·n/k), the time of one pass
+// (a 20-pass Cluster call minus a 10-pass one, over 10, so that fixed
+// costs cancel) on 1 and 2 workers, and whole Cluster calls (Lloyd and
+// the automatic choice, k-means++ seeding, at most -iters passes).
+func (c config) passes(n int, shapes [][2]int) {
+	fmt.Printf("## Lloyd pass and whole Cluster, n=%s (rate: 2·n·d·k per pass)\n\n", exp(n))
+	fmt.Println("| d | k | pass ms 1W | GFLOP/s 1W | ÷ peak | pass ms 2W | 1W ÷ 2W | Cluster Lloyd ms 1W / 2W | Cluster auto ms 1W / 2W (pick) |\n|---|---|---|---|---|---|---|---|---|")
+	for _, sh := range shapes {
+		d, k := sh[0], sh[1]
+		x := synth.Blobs(n, d, synth.GridClusters, 1)
+		start := mat.NewDense(k, d, nil)
+		for j := range k {
+			start.SetRow(j, x.RawRowView(j*(n/k)))
+		}
+		timed := func(passes, workers int) float64 {
+			best := math.Inf(1)
+			for range c.reps {
+				t0 := time.Now()
+				res, err := kmeans.Cluster(context.Background(), kmeans.Problem{Data: x, K: k, Seeder: seeding.Given{Centers: start}},
+					&kmeans.Settings{Restarts: 1, MaxIterations: passes, Workers: workers}, kmeans.Lloyd{})
+				if err != nil {
+					fmt.Fprintln(os.Stderr, "benchreport:", err)
+					os.Exit(1)
+				}
+				if res.Iterations != passes {
+					fmt.Fprintf(os.Stderr, "benchreport: d=%d k=%d converged after %d passes\n", d, k, res.Iterations)
+					os.Exit(1)
+				}
+				best = math.Min(best, time.Since(t0).Seconds())
+			}
+			return best
+		}
+		pass := func(workers int) float64 { return math.Max(timed(20, workers)-timed(10, workers), 1e-9) / 10 }
+		p1, p2 := pass(1), pass(2)
+		rate := 2 * float64(n) * float64(d) * float64(k) / p1
+		l1, l2 := c.cluster(x, k, c.iters, 1, kmeans.Lloyd{}), c.cluster(x, k, c.iters, 2, kmeans.Lloyd{})
+		a1, a2 := c.cluster(x, k, c.iters, 1, nil), c.cluster(x, k, c.iters, 2, nil)
+		fmt.Printf("| %d | %d | %.2f | %.1f | %.0f%% | %.2f | %.2f× | %s / %s | %s / %s (%s) |\n", d, k, p1*1e3, rate/1e9, 100*rate/c.peak, p2*1e3, p1/p2,
+			ms(l1.secs), ms(l2.secs), ms(a1.secs), ms(a2.secs), a1.method)
+		runtime.GC()
+	}
+	fmt.Println()
+}
+
+// parseShapes parses "d:k,d:k".
+func parseShapes(s string) [][2]int {
+	var out [][2]int
+	for _, f := range strings.Split(s, ",") {
+		dk := strings.Split(strings.TrimSpace(f), ":")
+		if len(dk) != 2 {
+			fmt.Fprintf(os.Stderr, "benchreport: bad shape %q (want d:k)\n", f)
+			os.Exit(2)
+		}
+		v := parseInts(dk[0] + "," + dk[1])
+		out = append(out, [2]int{v[0], v[1]})
+	}
+	return out
 }
 
 // best returns the fastest of reps+1 timings of f in seconds (the first

@@ -20,13 +20,15 @@ func TestGridSmoke(t *testing.T) {
 	os.Stdout = out
 	cfg := config{iters: 5, reps: 1, rows: 512, naiveRows: 256, workersN: 2000, maxGFLOP: 1,
 		workersD: set([]int{4}), workersK: set([]int{8})}
+	cfg.peak = peakRate()
+	cfg.passes(2000, [][2]int{{4, 8}})
 	cfg.grid([]int{2000}, []int{4}, []int{8})
 	os.Stdout = stdout
 	require.NoError(t, out.Close())
 	b, err := os.ReadFile(out.Name())
 	require.NoError(t, err)
 	report := string(b)
-	for _, want := range []string{"## Grid: seeded blobs", "## Assignment kernel vs gonum Dgemm", "## Workers:", "| 4 | 8 |"} {
+	for _, want := range []string{"## Lloyd pass and whole Cluster", "| 4 | 8 | ", "## Grid: seeded blobs", "## Assignment kernel vs gonum Dgemm", "## Workers:", "| 4 | 8 |"} {
 		require.Contains(t, report, want)
 	}
 	require.Equal(t, 2, strings.Count(report, "| n="+exp(2000)+" d=4 k=8 |"), report)
@@ -34,4 +36,5 @@ func TestGridSmoke(t *testing.T) {
 
 func TestParseInts(t *testing.T) {
 	require.Equal(t, []int{10000, 16, 100000}, parseInts("1e4,16,1e5"))
+	require.Equal(t, [][2]int{{16, 64}, {32, 64}}, parseShapes("16:64, 32:64"))
 }

@@ -1,0 +1,50 @@
+package main
+
+// affineAVX512 writes affineAVX512(dst, x, shift, div *float64, n int) int:
+// dst = (x − shift)/div in chunks of eight (the last one masked), and the
+// index of the first element of dst that is not finite, or −1.
+//
+//	DI dst  SI x  DX shift  BX div  CX n  AX t  R8 count  R9 mask bits
+func affineAVX512(a *asm) {
+	a.p("")
+	a.p("// func affineAVX512(dst, x, shift, div *float64, n int) int")
+	a.p("TEXT ·affineAVX512(SB), NOSPLIT, $0-48")
+	a.i("MOVQ dst+0(FP), DI")
+	a.i("MOVQ x+8(FP), SI")
+	a.i("MOVQ shift+16(FP), DX")
+	a.i("MOVQ div+24(FP), BX")
+	a.i("MOVQ n+32(FP), CX")
+	a.i("XORQ AX, AX")
+	a.i("VPXORQ Z3, Z3, Z3")
+	a.p("loopaff512:")
+	a.i("MOVQ CX, R8")
+	a.i("SUBQ AX, R8")
+	a.i("JLE okaff512")
+	a.i("MOVQ $8, R9")
+	a.i("CMPQ R8, R9")
+	a.i("CMOVQGT R9, R8")
+	a.i("MOVL $0xFF, R9")
+	a.i("BZHIQ R8, R9, R9")
+	a.i("KMOVW R9, K1")
+	a.i("VMOVUPD.Z (SI)(AX*8), K1, Z0")
+	a.i("VSUBPD.Z (DX)(AX*8), Z0, K1, Z0")
+	a.i("VDIVPD.Z (BX)(AX*8), Z0, K1, Z0")
+	a.i("VMOVUPD Z0, K1, (DI)(AX*8)")
+	a.i("VSUBPD Z0, Z0, Z1")
+	a.i("VCMPPD $4, Z3, Z1, K1, K2") // s − s ≠ 0 (unordered or not equal)
+	a.i("KMOVW K2, R9")
+	a.i("TESTL R9, R9")
+	a.i("JNZ badaff512")
+	a.i("ADDQ $8, AX")
+	a.i("JMP loopaff512")
+	a.p("badaff512:")
+	a.i("TZCNTL R9, R9")
+	a.i("ADDQ R9, AX")
+	a.i("MOVQ AX, ret+40(FP)")
+	a.i("VZEROUPPER")
+	a.i("RET")
+	a.p("okaff512:")
+	a.i("MOVQ $-1, ret+40(FP)")
+	a.i("VZEROUPPER")
+	a.i("RET")
+}

@@ -1,0 +1,3 @@
+module github.com/centroidlab/centroid/internal/asm/gen
+
+go 1.26
