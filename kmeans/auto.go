@@ -5,6 +5,7 @@ import (
 	"strings"
 
 	"github.com/centroidlab/centroid/distance"
+	"github.com/centroidlab/centroid/internal/asm/f64"
 )
 
 // choose picks a Method when Cluster is called with a nil Method, from the
@@ -14,6 +15,13 @@ import (
 //
 //   - Metrics without the triangle inequality (Cosine), other metrics the
 //     bound solvers do not support, and k = 1: Lloyd.
+//   - Euclidean with a vector kernel (internal/asm/f64 on AVX-512 or
+//     AVX2+FMA): Lloyd, except d ≥ 128 and k ≥ 64, where a distance is
+//     expensive enough for the bounds to pay: Elkan when k < 128 and its
+//     bounds fit (below), else Yinyang. The kernel measures a row against
+//     a center in a fraction of a nanosecond, cheaper than the bound
+//     solvers' bookkeeping.
+//   - Otherwise (Manhattan, or builds without the vector kernel):
 //   - k ≤ 8 and 8 ≤ d < 128: Lloyd. Few passes and few centers leave the
 //     bounds little to save, and the kernel makes Lloyd's distances cheap.
 //   - d < 8, or k < 48, or d ≤ 16 and k ≤ 64: Hamerly. Two bounds per row;
@@ -25,9 +33,8 @@ import (
 //     is expensive and Elkan computes the fewest.
 //   - otherwise: Yinyang.
 //
-// The rule is grounded in the measured table "Automatic choice" of
-// BENCHMARKS.md (go run ./internal/cmd/benchreport): the pick is within
-// 1.2× of the fastest method in every measured cell.
+// The rule is grounded in the measured tables "Automatic choice" of
+// BENCHMARKS.md (go run ./internal/cmd/benchreport).
 func choose(sp *Space, k int) Method {
 	if t, ok := sp.Metric.(distance.Triangle); !ok || !t.Triangle() || k == 1 {
 		return Lloyd{}
@@ -37,12 +44,22 @@ func choose(sp *Space, k int) Method {
 	}
 	n, d := int64(sp.N), int64(sp.D)
 	elkanBytes := 4 * n * int64(k+1)
+	elkanFits := elkanBytes <= 2*8*n*d && elkanBytes <= 4<<30
+	if sp.arith == distance.SquaredDifferences && f64.Kernel() != "go" {
+		switch {
+		case d >= 128 && k >= 64 && k < 128 && elkanFits:
+			return Elkan{}
+		case d >= 128 && k >= 64:
+			return Yinyang{}
+		}
+		return Lloyd{}
+	}
 	switch {
 	case k <= 8 && d >= 8 && d < 128:
 		return Lloyd{}
 	case d < 8 || k < 48 || (d <= 16 && k <= 64):
 		return Hamerly{}
-	case d >= 128 && k < 128 && elkanBytes <= 2*8*n*d && elkanBytes <= 4<<30:
+	case d >= 128 && k < 128 && elkanFits:
 		return Elkan{}
 	}
 	return Yinyang{}

@@ -22,7 +22,7 @@ func BenchmarkCluster(b *testing.B) {
 		b.Run(fmt.Sprintf("n=%d/d=%d/k=%d", g.n, g.d, g.k), func(b *testing.B) {
 			b.ReportAllocs()
 			for b.Loop() {
-				if _, err := Cluster(context.Background(), Problem{Data: x, K: g.k}, &Settings{Restarts: 1, MaxIterations: 20}, Lloyd{}); err != nil {
+				if _, err := Cluster(context.Background(), Problem{Data: x, K: g.k}, &Settings{Restarts: 1, MaxIterations: 20, SwapTrials: -1}, Lloyd{}); err != nil {
 					b.Fatal(err)
 				}
 			}

@@ -220,7 +220,9 @@ func TestWrappedMetricKeepsFastPaths(t *testing.T) {
 	require.NoError(t, err)
 	_, kernel := pass.(*lloydKernel)
 	assert.True(t, kernel, "Lloyd runs the blocked kernel for a wrapped Euclidean")
-	assert.Equal(t, Hamerly{}, choose(sp, 6))
+	plain, err := NewSpace(Problem{Data: x, K: 6})
+	require.NoError(t, err)
+	assert.Equal(t, choose(plain, 6), choose(sp, 6))
 	a, err := Cluster(context.Background(), Problem{Data: x, K: 6, Metric: wrappedMetric{}}, &Settings{Seed: 1}, nil)
 	require.NoError(t, err)
 	b, err := Cluster(context.Background(), Problem{Data: x, K: 6}, &Settings{Seed: 1}, nil)
@@ -280,4 +282,17 @@ func TestNewSpace(t *testing.T) {
 	require.ErrorIs(t, err, ErrK)
 	_, err = NewSpace(Problem{})
 	require.ErrorIs(t, err, ErrData)
+}
+
+// hugeDims is a matrix that only states its shape.
+type hugeDims struct{ r, c int }
+
+func (h hugeDims) Dims() (int, int)  { return h.r, h.c }
+func (hugeDims) At(int, int) float64 { return 0 }
+func (h hugeDims) T() mat.Matrix     { return hugeDims{h.c, h.r} }
+
+func TestNewModelSizeLimit(t *testing.T) {
+	_, err := NewModel(hugeDims{MaxServedValues/4 + 1, 4}, nil, nil, nil)
+	require.ErrorIs(t, err, ErrTooLarge)
+	require.ErrorIs(t, err, ErrModel)
 }

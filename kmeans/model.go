@@ -93,6 +93,12 @@ func newModel(centers []float64, k, d int, metric distance.Objective, sc scale.S
 	return m
 }
 
+// MaxServedValues is the largest k·d of a Model: NewModel refuses more,
+// and so do the decoders whatever their DecodeLimits. The serving search
+// keeps the centers packed for its kernel (8·k·d bytes, 128 MiB at the
+// maximum) and measures a row against every center.
+const MaxServedValues = nearest.MaxValues
+
 // NewModel returns the model of the k×d centers, given in the clustering
 // space (the space after scaler, where Cluster measures distances), with
 // the metric (nil means distance.Euclidean), the learned scaler that maps
@@ -104,13 +110,16 @@ func newModel(centers []float64, k, d int, metric distance.Objective, sc scale.S
 // It checks everything a decoded document is checked for: the centers are
 // finite and, under Cosine, of unit length (within 1e-6); the metric has a
 // center rule; the scaler has d columns; the features are valid (see
-// WithFeatures). It returns an error wrapping ErrModel, ErrMetric or
-// ErrSchema. The model has no training summary; add one with
+// WithFeatures). It returns an error wrapping ErrModel (ErrTooLarge when
+// k·d exceeds MaxServedValues), ErrMetric or ErrSchema. The model has no training summary; add one with
 // WithTraining.
 func NewModel(centers mat.Matrix, metric distance.Objective, scaler scale.Scaler, features []string) (*Model, error) {
 	k, d, err := check.Matrix(centers, ErrModel)
 	if err != nil {
 		return nil, err
+	}
+	if k > MaxServedValues/d {
+		return nil, fmt.Errorf("%w: k·d = %d·%d exceeds %d values", ErrTooLarge, k, d, MaxServedValues)
 	}
 	if metric == nil {
 		metric = distance.Euclidean{}

@@ -5,6 +5,7 @@ import (
 	"math"
 
 	"github.com/centroidlab/centroid/distance"
+	"gonum.org/v1/gonum/floats"
 )
 
 // Partial holds the per-cluster statistics of a block of rows: weighted sums
@@ -56,10 +57,9 @@ func (p *Partial) addScaled(j int, x []float64, s, w, loss float64) {
 	if len(x) != p.D {
 		panic("kmeans: Partial.Add row length differs from D")
 	}
-	sum := p.Sum[j*p.D : (j+1)*p.D]
-	for i, v := range x {
-		sum[i] += s * v
-	}
+	// sum += s·x: gonum's AxpyUnitary multiplies, then adds, element by
+	// element (no fused multiply-add), so the bits are those of the loop.
+	floats.AddScaled(p.Sum[j*p.D:(j+1)*p.D], s, x)
 	p.Weight[j] += w
 	p.Count[j]++
 	p.Cost[j] += w * loss

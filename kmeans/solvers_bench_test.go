@@ -19,7 +19,7 @@ var benchMethods = []Method{Lloyd{}, Elkan{}, Hamerly{}, Yinyang{}}
 // 1) and reports the passes and row–center distance evaluations per call.
 func benchmarkCluster(b *testing.B, x *mat.Dense, k, maxIter, workers int, m Method) {
 	p := Problem{Data: x, K: k}
-	s := &Settings{Restarts: 1, Seed: 1, MaxIterations: maxIter, Workers: workers}
+	s := &Settings{Restarts: 1, Seed: 1, MaxIterations: maxIter, Workers: workers, SwapTrials: -1}
 	b.ReportAllocs()
 	var res *Result
 	for b.Loop() {
@@ -121,7 +121,7 @@ func BenchmarkLloydPass(b *testing.B) {
 			run := func(passes int) time.Duration {
 				t0 := time.Now()
 				res, err := Cluster(context.Background(), Problem{Data: x, K: s.k, Seeder: seeding.Given{Centers: start}},
-					&Settings{Restarts: 1, MaxIterations: passes, Workers: 1}, Lloyd{})
+					&Settings{Restarts: 1, MaxIterations: passes, Workers: 1, SwapTrials: -1}, Lloyd{})
 				if err != nil {
 					b.Fatal(err)
 				}

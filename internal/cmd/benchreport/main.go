@@ -94,7 +94,7 @@ func (c config) cluster(x *mat.Dense, k, iters, workers int, m kmeans.Method) ru
 	for range c.reps {
 		start := time.Now()
 		res, err := kmeans.Cluster(context.Background(), kmeans.Problem{Data: x, K: k},
-			&kmeans.Settings{Restarts: 1, Seed: 1, MaxIterations: iters, Workers: workers}, m)
+			&kmeans.Settings{Restarts: 1, Seed: 1, MaxIterations: iters, Workers: workers, SwapTrials: -1}, m)
 		secs := time.Since(start).Seconds()
 		if err != nil {
 			fmt.Fprintln(os.Stderr, "benchreport:", err)
@@ -328,7 +328,7 @@ func (c config) passes(n int, shapes [][2]int) {
 			for range c.reps {
 				t0 := time.Now()
 				res, err := kmeans.Cluster(context.Background(), kmeans.Problem{Data: x, K: k, Seeder: seeding.Given{Centers: start}},
-					&kmeans.Settings{Restarts: 1, MaxIterations: passes, Workers: workers}, kmeans.Lloyd{})
+					&kmeans.Settings{Restarts: 1, MaxIterations: passes, Workers: workers, SwapTrials: -1}, kmeans.Lloyd{})
 				if err != nil {
 					fmt.Fprintln(os.Stderr, "benchreport:", err)
 					os.Exit(1)
