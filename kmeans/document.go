@@ -410,46 +410,23 @@ type span struct{ at, end int }
 //
 // It reads b in two passes, so that the order of members does not matter
 // and nothing is stored before the declared shape is known: the first
-// checks the syntax, the member names and the nesting and notes where each
-// member's value lies, allocating nothing; the second reads the values,
-// the small ones first, holding every array to the length k and dim
-// declare. No array is stored beyond that length, and the k·d centers are
-// allocated only once the limits accept k·d and the centers' bytes could
-// hold that many values (at least two bytes each), so a document costs at
-// most a small multiple of its size however its arrays disagree with its
-// shape.
+// (scanMembers) checks the syntax, the member names and the nesting and
+// notes where each member's value lies, allocating nothing; the second
+// reads the values, the small ones first, holding every array to the
+// length k and dim declare. No array is stored beyond that length, and the
+// k·d centers are allocated only once the limits accept k·d and the
+// centers' bytes could hold that many values (at least two bytes each), so
+// a document costs at most a small multiple of its size however its
+// arrays disagree with its shape.
 func readDocument(b []byte, lim DecodeLimits) (*content, error) {
 	if int64(len(b)) > lim.MaxBytes {
 		return nil, fmt.Errorf("%w: more than %d bytes", ErrTooLarge, lim.MaxBytes)
 	}
+	at, seen, err := scanMembers(b)
+	if err != nil {
+		return nil, err
+	}
 	r := &jsonReader{b: b}
-	var at [len(topMembers)]span
-	var seen uint64
-	if err := r.open('{', "a model document (an object)"); err != nil {
-		return nil, err
-	}
-	for n := 0; ; n++ {
-		more, err := r.more('}', n)
-		if err != nil {
-			return nil, err
-		}
-		if !more {
-			break
-		}
-		idx, err := r.member(topMembers[:], &seen, "document")
-		if err != nil {
-			return nil, err
-		}
-		r.space()
-		start := r.i
-		if err := r.skip(1); err != nil {
-			return nil, err
-		}
-		at[idx] = span{start, r.i}
-	}
-	if err := r.end(); err != nil {
-		return nil, err
-	}
 	// read positions r at member idx's value.
 	read := func(idx int) *jsonReader {
 		r.i = at[idx].at
@@ -459,7 +436,6 @@ func readDocument(b []byte, lim DecodeLimits) (*content, error) {
 	var (
 		format  string
 		version int
-		err     error
 	)
 	if seen&(1<<memFormat) != 0 {
 		if format, err = read(memFormat).str(maxWord, "format"); err != nil {
@@ -581,6 +557,36 @@ func readDocument(b []byte, lim DecodeLimits) (*content, error) {
 
 	return &content{version: version, k: k, d: dim, centers: centers, metric: obj, scaler: sc, library: library,
 		created: created, features: features, columns: columns, training: training, sumAt: at[memChecksum].at}, nil
+}
+
+// scanMembers is the first pass over document b: it checks the syntax,
+// the member names of the top-level object and the nesting, and returns
+// where each member's value lies and which members are present.
+func scanMembers(b []byte) (at [len(topMembers)]span, seen uint64, err error) {
+	r := &jsonReader{b: b}
+	if err := r.open('{', "a model document (an object)"); err != nil {
+		return at, 0, err
+	}
+	for n := 0; ; n++ {
+		more, err := r.more('}', n)
+		if err != nil {
+			return at, 0, err
+		}
+		if !more {
+			break
+		}
+		idx, err := r.member(topMembers[:], &seen, "document")
+		if err != nil {
+			return at, 0, err
+		}
+		r.space()
+		start := r.i
+		if err := r.skip(1); err != nil {
+			return at, 0, err
+		}
+		at[idx] = span{start, r.i}
+	}
+	return at, seen, r.end()
 }
 
 // centers reads k rows of dim numbers from a value of n bytes into one
