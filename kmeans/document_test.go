@@ -941,3 +941,67 @@ func BenchmarkReadHostileCenters1MiB(b *testing.B)   { benchmarkReadHostile(b, "
 func BenchmarkReadHostileCenters16MiB(b *testing.B)  { benchmarkReadHostile(b, "centers", 16<<20) }
 func BenchmarkReadHostileChecksum1MiB(b *testing.B)  { benchmarkReadHostile(b, "bad-checksum", 1<<20) }
 func BenchmarkReadHostileChecksum16MiB(b *testing.B) { benchmarkReadHostile(b, "bad-checksum", 16<<20) }
+
+// TestReaderValues checks the document reader's strings and numbers
+// against encoding/json decoding the same literals, and that it refuses
+// what RFC 8259 forbids, plus the lone surrogates and invalid UTF-8 that
+// encoding/json replaces with U+FFFD.
+func TestReaderValues(t *testing.T) {
+	for _, lit := range []string{`""`, `"plain"`, `"\"\\\/\b\f\n\r\t"`, `"\u00e9\u4e2d"`, `"\ud83d\udeb2 bike"`, `"é中🚲"`,
+		`"\u0000"`, `"a\u2028b"`, `"<&>"`} {
+		var want string
+		require.NoError(t, json.Unmarshal([]byte(lit), &want), lit)
+		r := jsonReader{b: []byte(lit)}
+		got, err := r.str(64, "a string")
+		require.NoError(t, err, lit)
+		assert.Equal(t, want, got, lit)
+		r = jsonReader{b: []byte(lit)}
+		require.NoError(t, r.skip(0), lit)
+		assert.Equal(t, len(lit), r.i, "skip reads the whole literal %s", lit)
+	}
+	for _, lit := range []string{`"\ud800"`, `"\udc00x"`, `"\ud800\u0041"`, "\"\xff\"", "\"\xc3\"", "\"a\nb\"", `"\x41"`, `"\u12"`, `"abc`, `"\`} {
+		r := jsonReader{b: []byte(lit)}
+		_, err := r.str(64, "a string")
+		require.ErrorIs(t, err, ErrModel, lit)
+		r = jsonReader{b: []byte(lit)}
+		require.ErrorIs(t, r.skip(0), ErrModel, lit)
+	}
+	r := jsonReader{b: []byte(`"\u00e9\u00e9"`)}
+	_, err := r.str(3, "a name")
+	require.ErrorIs(t, err, ErrModel, "4 bytes decoded, limit 3")
+
+	for _, lit := range []string{"0", "-0", "1", "-12.5", "1e3", "1E+3", "2.5e-3", "1e-400", "123456789012345678901234567890",
+		"0.30000000000000004", "4.9e-324", "1.7976931348623157e308"} {
+		var want float64
+		require.NoError(t, json.Unmarshal([]byte(lit), &want), lit)
+		r := jsonReader{b: []byte(lit)}
+		got, err := r.number("a value")
+		require.NoError(t, err, lit)
+		assert.Equal(t, math.Float64bits(want), math.Float64bits(got), lit)
+		assert.Equal(t, len(lit), r.i, lit)
+	}
+	for _, lit := range []string{"-", "+1", ".5", "1.", "1e", "1e+", "01", "0x10", "NaN", "Infinity", "1e309", "-1e400000"} {
+		var v float64
+		require.Error(t, json.Unmarshal([]byte(lit), &v), "encoding/json refuses %s too", lit)
+		r := jsonReader{b: []byte(lit)}
+		_, err := r.number("a value")
+		if err == nil {
+			// A valid prefix ("0" of "01"), which the caller refuses for
+			// what follows it.
+			require.Less(t, r.i, len(lit), lit)
+			continue
+		}
+		require.ErrorIs(t, err, ErrModel, lit)
+	}
+	for lit, want := range map[string]int{"0": 0, "-0": 0, "42": 42, "9223372036854775807": math.MaxInt64} {
+		r := jsonReader{b: []byte(lit)}
+		got, err := r.integer("k")
+		require.NoError(t, err, lit)
+		assert.Equal(t, want, got, lit)
+	}
+	for _, lit := range []string{"1.0", "1e2", "9223372036854775808", "-9223372036854775809"} {
+		r := jsonReader{b: []byte(lit)}
+		_, err := r.integer("k")
+		require.ErrorIs(t, err, ErrModel, lit)
+	}
+}

@@ -150,8 +150,11 @@ func (r *jsonReader) member(names []string, seen *uint64, where string) (int, er
 	for j < len(r.b) && r.b[j] != '"' && r.b[j] != '\\' && r.b[j] >= 0x20 {
 		j++
 	}
-	if j == len(r.b) || r.b[j] != '"' {
-		r.i = j
+	r.i = j
+	switch {
+	case j == len(r.b):
+		return 0, r.errorf("unterminated member name")
+	case r.b[j] != '"':
 		return 0, r.errorf("%s: a member name must be spelled without escapes or control characters", where)
 	}
 	key := r.b[at+1 : j]
