@@ -4,7 +4,6 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
-	"strings"
 	"unicode"
 	"unicode/utf8"
 )
@@ -28,8 +27,17 @@ func checkFeatures(names []string, d int) (map[string]int, error) {
 	return cols, nil
 }
 
-// checkName checks a stored name: non-empty, at most max bytes, valid UTF-8
-// without control characters.
+// checkName checks a stored name: non-empty, at most max bytes of valid
+// UTF-8, and made only of characters that show. So that two names that
+// look alike are alike, and a name cannot reorder or hide the text around
+// it where it is displayed, it refuses every character that is not
+// graphic (control characters Cc, format characters Cf such as the
+// bidirectional controls U+202A–U+202E and U+2066–U+2069 and the zero-width
+// characters U+200B–U+200D and U+FEFF, private-use and unassigned code
+// points, line and paragraph separators), the code points Unicode marks
+// default-ignorable (variation selectors, the Hangul fillers, the
+// combining grapheme joiner, ...), the blank Braille pattern U+2800, every
+// space but U+0020, and a space at either end.
 func checkName(s string, max int) error {
 	switch {
 	case s == "":
@@ -38,41 +46,37 @@ func checkName(s string, max int) error {
 		return fmt.Errorf("name of %d bytes, longer than %d", len(s), max)
 	case !utf8.ValidString(s):
 		return fmt.Errorf("name %q is not valid UTF-8", s)
-	case strings.IndexFunc(s, unicode.IsControl) >= 0:
-		return fmt.Errorf("name %q holds a control character", s)
+	case s[0] == ' ' || s[len(s)-1] == ' ':
+		return fmt.Errorf("name %q begins or ends with a space", s)
+	}
+	for i, r := range s {
+		if !visible(r) {
+			return fmt.Errorf("name %q holds the invisible or control character %U at byte %d", s, r, i)
+		}
 	}
 	return nil
 }
 
-// number is a float64 that, unlike a plain float64, rejects JSON null
-// (which encoding/json would silently skip).
-type number float64
-
-// UnmarshalJSON decodes a JSON number and rejects null.
-func (n *number) UnmarshalJSON(b []byte) error {
-	if string(b) == "null" {
-		return errors.New("null where a number is required")
+// visible reports whether r may appear in a name (see checkName).
+func visible(r rune) bool {
+	switch {
+	case r == ' ':
+		return true
+	case r < utf8.RuneSelf:
+		return '!' <= r && r <= '~'
 	}
-	return json.Unmarshal(b, (*float64)(n))
+	return unicode.IsGraphic(r) && r != brailleBlank &&
+		!unicode.In(r, unicode.Zs, unicode.Other_Default_Ignorable_Code_Point, unicode.Variation_Selector)
 }
 
-// numbers is a JSON array of numbers that rejects null entries.
-type numbers []number
+// brailleBlank is graphic but shows nothing.
+const brailleBlank = '\u2800'
 
-// modelDocV1 is the version 1 document.
-type modelDocV1 struct {
-	Format  string          `json:"format"`
-	Version int             `json:"version"`
-	Metric  string          `json:"metric"`
-	K       int             `json:"k"`
-	Dim     int             `json:"dim"`
-	Centers []numbers       `json:"centers"`
-	Scaler  json.RawMessage `json:"scaler"`
-}
-
-// modelDoc is the version 2 document. Its field order is the canonical
-// order; Checksum must stay last (MarshalJSON splices it in).
-type modelDoc struct {
+// docHead is the version 2 document up to the scaler, as encoding/json
+// writes it: its field order is the canonical order (see
+// Model.MarshalJSON), and the centers, the training summary and the
+// checksum follow it in the encoding.
+type docHead struct {
 	Format   string          `json:"format"`
 	Version  int             `json:"version"`
 	Library  string          `json:"library,omitempty"`
@@ -82,22 +86,4 @@ type modelDoc struct {
 	Dim      int             `json:"dim"`
 	Features []string        `json:"features,omitempty"`
 	Scaler   json.RawMessage `json:"scaler"`
-	Centers  []numbers       `json:"centers"`
-	Training *trainingDoc    `json:"training,omitempty"`
-	Checksum string          `json:"checksum"`
-}
-
-type trainingDoc struct {
-	Rows     int          `json:"rows"`
-	Clusters []clusterDoc `json:"clusters"`
-}
-
-type clusterDoc struct {
-	Size   int    `json:"size"`
-	Weight number `json:"weight"`
-	Cost   number `json:"cost"`
-	P50    number `json:"p50"`
-	P90    number `json:"p90"`
-	P99    number `json:"p99"`
-	Max    number `json:"max"`
 }
