@@ -92,7 +92,10 @@
 // metric, k, d, the creation time, the library version and a training
 // summary; version 1 documents stay readable. Decoding checks the format
 // name, the version, the checksum, the metric, the shapes, that every value
-// is finite and the scaler; any failure wraps ErrModel.
+// is finite and the scaler; any failure wraps ErrModel. Decoding holds every
+// array to the declared k and dim as it reads, refuses duplicate or
+// case-folded member names, and costs memory and time in proportion to the
+// document.
 //
 // # Serving
 //

@@ -55,7 +55,8 @@ type DecodeLimits struct {
 	MaxBytes int64
 	// MaxValues is the largest number of center values k·d, which bounds
 	// the decoded model's memory (a few times 8·k·d bytes with its serving
-	// index). Zero or negative means DefaultMaxModelValues.
+	// index). Zero or negative means DefaultMaxModelValues; values above
+	// MaxServedValues mean MaxServedValues.
 	MaxValues int
 }
 
@@ -70,6 +71,7 @@ func (l *DecodeLimits) resolved() DecodeLimits {
 	if r.MaxValues <= 0 {
 		r.MaxValues = DefaultMaxModelValues
 	}
+	r.MaxValues = min(r.MaxValues, MaxServedValues)
 	return r
 }
 

@@ -1005,3 +1005,11 @@ func TestReaderValues(t *testing.T) {
 		require.ErrorIs(t, err, ErrModel, lit)
 	}
 }
+
+// DecodeLimits above the serving cap mean the cap.
+func TestDecodeLimitsCapped(t *testing.T) {
+	l := (&DecodeLimits{MaxValues: math.MaxInt}).resolved()
+	assert.Equal(t, MaxServedValues, l.MaxValues)
+	l = (&DecodeLimits{MaxValues: 10}).resolved()
+	assert.Equal(t, 10, l.MaxValues)
+}

@@ -37,7 +37,7 @@ type Model struct {
 	pool    *sync.Pool   // *[]float64 scratch of length 2d (raw row, scaled row), for the general path
 	set     *nearest.Set // Euclidean and Manhattan: the serving search
 
-	// Document content (see model_file.go).
+	// Document content (see document.go).
 	features []string       // nil: no schema
 	columns  map[string]int // feature name → column
 	created  time.Time      // zero: unknown
@@ -593,10 +593,11 @@ func (m *Model) Library() string {
 }
 
 // WithFeatures returns a copy of the model whose schema is names: column j
-// of a raw row is the feature names[j]. Names must be d non-empty, distinct,
-// valid UTF-8 strings of at most MaxFeatureName bytes without control
-// characters; otherwise it returns an error wrapping ErrSchema. A nil names
-// removes the schema.
+// of a raw row is the feature names[j]. Names must be d distinct, valid
+// UTF-8 strings of at most MaxFeatureName bytes made only of visible
+// characters: no control, format or default-ignorable characters, and no
+// space but an inner U+0020; otherwise it returns an error wrapping
+// ErrSchema. A nil names removes the schema.
 func (m *Model) WithFeatures(names []string) (*Model, error) {
 	if m == nil || m.k == 0 {
 		return nil, fmt.Errorf("%w: model has no centers", ErrModel)

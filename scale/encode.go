@@ -118,7 +118,7 @@ func decodeKind(b []byte, want string) (Scaler, error) {
 	case kindMinMax:
 		return &MinMax{affine: a}, nil
 	}
-	return &MedianIQR{affine: a}, nil
+	return &MedianIQR{affine: a, earlier: doc.Kind == kindMedianIQRv0}, nil
 }
 
 // currentKind maps an encoded kind of an earlier release to the kind

@@ -45,9 +45,13 @@ const (
 // and &MedianIQR{} are Scalers. Learn returns a *MedianIQR. It sorts each
 // column once, O(d·n log n) time, with O(n) scratch memory. Its encoded
 // kind is "median-iqr"; documents of the earlier kind "robust" decode to a
-// *MedianIQR too.
+// *MedianIQR too, which encodes with that kind again.
 type MedianIQR struct {
 	affine
+	// earlier is set on a scaler decoded from the kind "robust": it
+	// encodes with that kind again, so that a model document written by an
+	// earlier release re-encodes to the same bytes and keeps its checksum.
+	earlier bool
 }
 
 // Robust is the former name of MedianIQR.
@@ -94,13 +98,20 @@ func (MedianIQR) Learn(data mat.Matrix, weights []float64) (Scaler, error) {
 	return &MedianIQR{affine: a}, nil
 }
 
-// Kind returns "median-iqr".
-func (MedianIQR) Kind() string { return kindMedianIQR }
+// Kind returns "median-iqr", or "robust" for a scaler decoded from a
+// document of that earlier kind.
+func (r MedianIQR) Kind() string {
+	if r.earlier {
+		return kindMedianIQRv0
+	}
+	return kindMedianIQR
+}
 
 // MarshalJSON encodes the learned scaler as described in the package
-// documentation, with the kind "median-iqr". It returns an error wrapping
-// ErrNotLearned before Learn.
-func (r MedianIQR) MarshalJSON() ([]byte, error) { return r.marshal(kindMedianIQR) }
+// documentation, with its Kind: "median-iqr", or "robust" for a scaler
+// decoded from that earlier kind (so documents keep their bytes). It
+// returns an error wrapping ErrNotLearned before Learn.
+func (r MedianIQR) MarshalJSON() ([]byte, error) { return r.marshal(r.Kind()) }
 
 // UnmarshalJSON replaces r with the scaler encoded in b, which must be a
 // valid document of the kind "median-iqr" or of the earlier kind "robust";
