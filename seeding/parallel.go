@@ -6,6 +6,8 @@ import (
 	"math"
 	"math/rand/v2"
 	"slices"
+	"sync"
+	"sync/atomic"
 
 	"github.com/centroidlab/centroid/distance"
 	"github.com/centroidlab/centroid/internal/blocks"
@@ -97,7 +99,9 @@ func (p Parallel) Seed(dst *mat.Dense, data *mat.Dense, weights []float64, m dis
 	if err != nil {
 		return err
 	}
-	pl, err := p.Plan(in.k, in.d, in.m, rnd.Uint64())
+	inner := p
+	inner.Workers = 1 // the blocks run in parallel, each Add on one goroutine
+	pl, err := inner.Plan(in.k, in.d, in.m, rnd.Uint64())
 	if err != nil {
 		return err
 	}
@@ -177,6 +181,7 @@ type ParallelPlan struct {
 	ell      float64
 	rounds   int
 	maxPicks int
+	workers  int
 
 	round     int       // sampling rounds done
 	first     bool      // the first candidate is known
@@ -191,9 +196,11 @@ type ParallelPlan struct {
 }
 
 // Plan returns the k-means‖ state for k centers of dimension d under
-// metric m (nil means Euclidean), with row draws derived from seed. It
-// returns an error wrapping ErrParameter for invalid options and ErrK for
-// k < 1 or d < 1.
+// metric m (nil means Euclidean), with row draws derived from seed. Each
+// Add computes nearest candidates on p.Workers goroutines (zero means 1)
+// and adds the rows up in order, so its result does not depend on them.
+// It returns an error wrapping ErrParameter for invalid options and ErrK
+// for k < 1 or d < 1.
 func (p Parallel) Plan(k, d int, m distance.Metric, seed uint64) (*ParallelPlan, error) {
 	if k < 1 || d < 1 {
 		return nil, fmt.Errorf("%w: k = %d, d = %d, want both ≥ 1", ErrK, k, d)
@@ -210,7 +217,10 @@ func (p Parallel) Plan(k, d int, m distance.Metric, seed uint64) (*ParallelPlan,
 	if err := distance.Check(m); err != nil {
 		return nil, fmt.Errorf("%w: %w", ErrParameter, err)
 	}
-	pl := &ParallelPlan{k: k, d: d, metric: m, loss: lossFunc(m), euclid: isEuclidean(m), seed: seed, rounds: p.Rounds, ell: p.Oversampling}
+	if p.Workers < 0 {
+		return nil, fmt.Errorf("%w: Parallel.Workers = %d, want ≥ 0", ErrParameter, p.Workers)
+	}
+	pl := &ParallelPlan{k: k, d: d, metric: m, loss: lossFunc(m), euclid: isEuclidean(m), seed: seed, rounds: p.Rounds, ell: p.Oversampling, workers: max(1, p.Workers)}
 	if pl.rounds == 0 {
 		pl.rounds = DefaultRounds
 	}
@@ -293,9 +303,9 @@ type ParallelPart struct {
 	Picks []ParallelPick
 
 	limit int       // picks kept (0: all)
-	res   []int     // scratch: nearest candidate per row of a tile
-	loss  []float64 // scratch: loss per row of a tile
-	s     nearest.Searcher
+	res   []int     // scratch: nearest candidate per row of a chunk
+	loss  []float64 // scratch: loss per row of a chunk
+	s     []*nearest.Searcher
 }
 
 // ParallelPick is a row kept by a pass with its key.
@@ -420,11 +430,8 @@ func (pl *ParallelPlan) Add(q *ParallelPart, first uint64, x []float64, w []floa
 	if len(q.Weight) != nc {
 		return fmt.Errorf("%w: part made for %d candidates, the plan has %d", ErrParameter, len(q.Weight), nc)
 	}
-	const tile = 256
-	q.res = growInts(q.res, tile)
-	q.loss = growFloats(q.loss, tile)
-	for t0 := 0; t0 < m; t0 += tile {
-		t1 := min(m, t0+tile)
+	for t0 := 0; t0 < m; t0 += addChunk {
+		t1 := min(m, t0+addChunk)
 		pl.nearest(q, x[t0*d:t1*d], t1-t0)
 		for t := t0; t < t1; t++ {
 			wt := weight(t)
@@ -444,6 +451,14 @@ func (pl *ParallelPlan) Add(q *ParallelPart, first uint64, x []float64, w []floa
 	}
 	return nil
 }
+
+// addChunk is the number of rows whose nearest candidates Add computes
+// (in parallel) before adding them up in order; tile the rows of one
+// goroutine's share.
+const (
+	addChunk = 4096
+	tile     = 256
+)
 
 // keep inserts p (with a copy of x) into q's picks if it is among the
 // limit best, keeping them sorted.
@@ -465,21 +480,51 @@ func (pl *ParallelPlan) keep(q *ParallelPart, p ParallelPick, x []float64, limit
 }
 
 // nearest fills q.res and q.loss with the nearest candidate and its loss
-// for the m rows of x. It is the one place this file calls the blocked
-// kernel of internal/nearest (exact argmin, lowest index on ties).
+// for the m rows of x, in tiles spread over the plan's workers (each row's
+// answer is independent of the split). It is the one place this file calls
+// the blocked kernel of internal/nearest (exact argmin, lowest index on
+// ties).
 func (pl *ParallelPlan) nearest(q *ParallelPart, x []float64, m int) {
-	d, nc := pl.d, len(pl.cands)/pl.d
-	if pl.euclid {
-		q.s.Assign(q.res[:m], x, m, &pl.packed, func(i, j int) float64 {
-			return distance.SqEuclidean(x[i*d:(i+1)*d], pl.cands[j*d:(j+1)*d])
-		})
-		for t := range m {
-			j := q.res[t]
-			q.loss[t] = distance.SqEuclidean(x[t*d:(t+1)*d], pl.cands[j*d:(j+1)*d])
+	q.res = growInts(q.res, m)
+	q.loss = growFloats(q.loss, m)
+	tiles := (m + tile - 1) / tile
+	w := min(pl.workers, tiles)
+	for len(q.s) < max(1, w) {
+		q.s = append(q.s, new(nearest.Searcher))
+	}
+	if w <= 1 {
+		for t := range tiles {
+			pl.nearestTile(q.s[0], q.res, q.loss, x, t*tile, min(m, (t+1)*tile))
 		}
 		return
 	}
-	for t := range m {
+	var next atomic.Int64
+	var wg sync.WaitGroup
+	for g := range w {
+		wg.Go(func() {
+			for t := int(next.Add(1)) - 1; t < tiles; t = int(next.Add(1)) - 1 {
+				pl.nearestTile(q.s[g], q.res, q.loss, x, t*tile, min(m, (t+1)*tile))
+			}
+		})
+	}
+	wg.Wait()
+}
+
+// nearestTile does nearest's work for rows [lo, hi) of x.
+func (pl *ParallelPlan) nearestTile(s *nearest.Searcher, res []int, loss []float64, x []float64, lo, hi int) {
+	d, nc := pl.d, len(pl.cands)/pl.d
+	if pl.euclid {
+		rows := x[lo*d : hi*d]
+		s.Assign(res[lo:hi], rows, hi-lo, &pl.packed, func(i, j int) float64 {
+			return distance.SqEuclidean(rows[i*d:(i+1)*d], pl.cands[j*d:(j+1)*d])
+		})
+		for t := lo; t < hi; t++ {
+			j := res[t]
+			loss[t] = distance.SqEuclidean(x[t*d:(t+1)*d], pl.cands[j*d:(j+1)*d])
+		}
+		return
+	}
+	for t := lo; t < hi; t++ {
 		row := x[t*d : (t+1)*d]
 		best, bl := 0, math.Inf(1)
 		for j := range nc {
@@ -487,7 +532,7 @@ func (pl *ParallelPlan) nearest(q *ParallelPart, x []float64, m int) {
 				best, bl = j, l
 			}
 		}
-		q.res[t], q.loss[t] = best, bl
+		res[t], loss[t] = best, bl
 	}
 }
 

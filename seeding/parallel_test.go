@@ -215,3 +215,29 @@ func TestParallelSameCostAsPlusPlus(t *testing.T) {
 	}
 	assert.LessOrEqual(t, pl.Passes(), 6, "passes over the data")
 }
+
+// TestParallelPlanWorkers checks that the workers of one Add change
+// nothing: the same parts, bit for bit.
+func TestParallelPlanWorkers(t *testing.T) {
+	data := synth.Blobs(9000, 4, 6, 2)
+	x := data.RawMatrix().Data
+	var want []float64
+	for _, workers := range []int{1, 2, 5} {
+		pl, err := seeding.Parallel{Workers: workers}.Plan(6, 4, nil, 3)
+		require.NoError(t, err)
+		require.NoError(t, pl.SetFirst(x[:4]))
+		var costs []float64
+		for !pl.Done() {
+			q := pl.NewPart()
+			require.NoError(t, pl.Add(q, 0, x, nil))
+			costs = append(costs, q.Cost)
+			require.NoError(t, pl.Next(q))
+		}
+		got := append(costs, pl.Candidates().RawMatrix().Data...)
+		if want == nil {
+			want = got
+			continue
+		}
+		assert.Equal(t, want, got, "workers %d", workers)
+	}
+}

@@ -2,7 +2,6 @@ package stream
 
 import (
 	"fmt"
-
 )
 
 // Source is a sequence of rows of Dim() numbers each, read a block at a
@@ -164,4 +163,3 @@ func (s *skipper) bad(e *RowError) error {
 
 // Rejected returns the number of bad rows skipped in the current pass.
 func (s *skipper) Rejected() int64 { return s.rejected }
-
