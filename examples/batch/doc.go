@@ -1,0 +1,67 @@
+// Command batch clusters CSV and Parquet files that may be larger than
+// memory, labels rows with the model, profiles the clusters and scores a
+// labelling against a ground truth. It is also meant as a template for a
+// data engineer's own job: every verb is a short function over the
+// library (kmeans, kmeans/stream, kmeans/stream/parquet, validate).
+//
+// Install it with
+//
+//	go install github.com/centroidlab/centroid/examples/batch@latest
+//
+// # Verbs
+//
+//	batch cluster -in FILE -columns A,B,... -k K -seed S -model MODEL.json [-memory 16MiB] [-method exact|minibatch]
+//	batch label   -model MODEL.json -in FILE -out LABELS.csv [-id COLUMN]
+//	batch profile -model MODEL.json -in FILE -labels LABELS.csv
+//	batch score   -in FILE -truth COLUMN -found COLUMN [-labels LABELS.csv] [-json] [-min-ari X] [-max-ci N]
+//
+// cluster reads the columns named by -columns (all columns by default),
+// scales them (-scaler none, zscore, minmax or robust; none by default,
+// since scaling changes what "near" means) and writes the model document
+// (json.Marshal of *kmeans.Model, with the feature names) to -model. -k
+// takes one number or a range such as 2..8: a range first runs the
+// choose-k sweep on a uniform sample of -sample rows, prints its report
+// and clusters all rows with the recommended k.
+//
+// label writes one row per input row, in input order: a header, then
+// [id,]cluster,distance,margin, where distance is the distance to the
+// cluster's center in the scaled space and margin the distance to the
+// runner-up minus it. The output is CSV or Parquet by the extension of
+// -out. The input columns are found by the model's feature names.
+//
+// profile joins a labels file to its input by row order and prints each
+// cluster in the units of the data (on a uniform sample of at most -sample
+// rows).
+//
+// # Memory
+//
+// -memory sets a budget such as 16MiB or 2GiB (default 256MiB), also given
+// to the Go runtime as its soft memory limit unless GOMEMLIMIT is set.
+// cluster loads the rows when about 16·(2d+8) bytes per row fit in three
+// quarters of it; otherwise it streams the file in blocks, keeping only
+// the blocks, the samples and the centers. -method chooses: exact (Lloyd:
+// in memory with restarts, or streamed one pass per iteration), minibatch
+// (always streamed; mini-batch k-means), or auto (the default: exact in
+// memory when the rows fit, else mini-batch followed by one exact pass).
+// Streamed runs seed with k-means‖.
+//
+// # Bad rows
+//
+// A value that is not a number, NaN or ±Inf, an empty value, a short row
+// or a null stops the verb with an error naming the file, the line (or
+// Parquet row) and the column, exit code 1, and nothing written. With
+// -skip, bad rows are skipped, counted in the summary and logged (the
+// first ten, then every thousandth); label writes cluster -1 with empty
+// distance and margin for them, so that its output keeps one row per
+// input row.
+//
+// # Progress, interruption, output
+//
+// On a terminal a progress bar shows each pass (rows/s, pass, cost); when
+// stderr is not a terminal, log/slog lines report every pass. Ctrl-C (or
+// SIGTERM) stops at the next block: every file is written to a temporary
+// file renamed into place at the end, so nothing half-done is left.
+//
+// Exit codes: 0 done, 1 bad input or a failed run, 2 usage error, 3 a
+// score threshold not met, 130 interrupted.
+package main
