@@ -66,8 +66,6 @@ func clusterFlags(e *env) (*clusterOptions, *flag.FlagSet) {
 	return o, fs
 }
 
-
-
 func clusterVerb(ctx context.Context, args []string, e *env) error {
 	o, fs := clusterFlags(e)
 	if err := parse(fs, args); err != nil {
