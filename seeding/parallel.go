@@ -193,6 +193,7 @@ type ParallelPlan struct {
 	passes    int
 	cost      float64
 	truncated int
+	scratch   sync.Pool // *addScratch
 }
 
 // Plan returns the k-means‖ state for k centers of dimension d under
@@ -228,6 +229,7 @@ func (p Parallel) Plan(k, d int, m distance.Metric, seed uint64) (*ParallelPlan,
 		pl.ell = 2 * float64(k)
 	}
 	pl.maxPicks = int(math.Min(4*pl.ell+64, 1<<24))
+	pl.scratch.New = func() any { return new(addScratch) }
 	return pl, nil
 }
 
@@ -302,10 +304,15 @@ type ParallelPart struct {
 	// lower Index), at most the plan's limit.
 	Picks []ParallelPick
 
-	limit int       // picks kept (0: all)
-	res   []int     // scratch: nearest candidate per row of a chunk
-	loss  []float64 // scratch: loss per row of a chunk
-	s     []*nearest.Searcher
+	limit int // picks kept (0: all)
+}
+
+// addScratch is the working memory of one Add call, pooled by the plan so
+// that parts stay small (a pass may hold one part per block).
+type addScratch struct {
+	res  []int     // nearest candidate per row of a chunk
+	loss []float64 // loss per row of a chunk
+	s    []*nearest.Searcher
 }
 
 // ParallelPick is a row kept by a pass with its key.
@@ -430,15 +437,17 @@ func (pl *ParallelPlan) Add(q *ParallelPart, first uint64, x []float64, w []floa
 	if len(q.Weight) != nc {
 		return fmt.Errorf("%w: part made for %d candidates, the plan has %d", ErrParameter, len(q.Weight), nc)
 	}
+	sc := pl.scratch.Get().(*addScratch)
+	defer pl.scratch.Put(sc)
 	for t0 := 0; t0 < m; t0 += addChunk {
 		t1 := min(m, t0+addChunk)
-		pl.nearest(q, x[t0*d:t1*d], t1-t0)
+		pl.nearest(sc, x[t0*d:t1*d], t1-t0)
 		for t := t0; t < t1; t++ {
 			wt := weight(t)
 			if wt == 0 {
 				continue
 			}
-			j, l := q.res[t-t0], q.loss[t-t0]
+			j, l := sc.res[t-t0], sc.loss[t-t0]
 			q.Weight[j] += wt
 			wd := wt * l
 			q.Cost += wd
@@ -484,7 +493,7 @@ func (pl *ParallelPlan) keep(q *ParallelPart, p ParallelPick, x []float64, limit
 // answer is independent of the split). It is the one place this file calls
 // the blocked kernel of internal/nearest (exact argmin, lowest index on
 // ties).
-func (pl *ParallelPlan) nearest(q *ParallelPart, x []float64, m int) {
+func (pl *ParallelPlan) nearest(q *addScratch, x []float64, m int) {
 	q.res = growInts(q.res, m)
 	q.loss = growFloats(q.loss, m)
 	tiles := (m + tile - 1) / tile

@@ -35,11 +35,14 @@
 //
 // # Memory
 //
-// -memory sets a budget such as 16MiB or 2GiB (default 256MiB), also given
-// to the Go runtime as its soft memory limit unless GOMEMLIMIT is set.
-// cluster loads the rows when about 16·(2d+8) bytes per row fit in three
-// quarters of it; otherwise it streams the file in blocks, keeping only
-// the blocks, the samples and the centers. -method chooses: exact (Lloyd:
+// -memory sets a budget such as 32MiB or 2GiB (default 256MiB) for the
+// peak resident memory of the process. The command itself (Go runtime,
+// binary, parsers) needs about 20 MiB whatever the data, so budgets below
+// that cannot be met (a warning says so). The runtime's soft memory limit
+// is set to the budget less 8 MiB (the part the runtime does not manage)
+// unless GOMEMLIMIT is set. cluster loads the rows when about 16·(2d+8)
+// bytes per row fit in what the command leaves; otherwise it streams the
+// file in blocks, keeping only the blocks, the samples and the centers. -method chooses: exact (Lloyd:
 // in memory with restarts, or streamed one pass per iteration), minibatch
 // (always streamed; mini-batch k-means), or auto (the default: exact in
 // memory when the rows fit, else mini-batch followed by one exact pass).

@@ -61,7 +61,7 @@ func labelVerb(ctx context.Context, args []string, e *env) error {
 		return fmt.Errorf("%w: %d columns for a model of %d features", errUsage, len(cols), model.Dim())
 	}
 	log := slog.New(slog.NewTextHandler(e.stderr, nil))
-	limitMemory(int64(memory))
+	limitMemory(int64(memory), log)
 	opt := &stream.Options{Columns: cols, Skip: skip, OnSkip: skipLogger(log)}
 	if id != "" {
 		opt.Keep = []string{id}

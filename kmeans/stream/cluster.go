@@ -284,6 +284,7 @@ func Cluster(ctx context.Context, p Problem, s *Settings, m Method) (*Result, er
 		res: &Result{Stages: map[Stage]int{}, Method: m.name()},
 	}
 	j.asg = newAssigner(obj, d, set.Workers)
+	j.cost = math.NaN()
 	var centers []float64
 	if isMB && !reopenable {
 		centers, err = j.miniBatchOnce(mb)
