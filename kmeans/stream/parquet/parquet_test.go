@@ -27,7 +27,7 @@ import (
 )
 
 // writeMatrix writes X as Parquet columns x0, x1, … in small row groups.
-func writeMatrix(t *testing.T, path string, X *mat.Dense, groupRows int) []string {
+func writeMatrix(t testing.TB, path string, X *mat.Dense, groupRows int) []string {
 	t.Helper()
 	n, d := X.Dims()
 	names := make([]string, d)
