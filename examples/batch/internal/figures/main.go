@@ -146,7 +146,7 @@ func miniBatchFigure(ctx context.Context, n int, png string) error {
 
 func drawCurve(path string, lloyd, mb []point, stopped point, final float64) error {
 	p := gplot.New()
-	p.Title.Text = "Cost against time, 10⁷ × 16 mixture of 50, k = 16, same k-means‖ seeds"
+	p.Title.Text = "Cost against time, 10⁷ × 16 mixture of 50, k = 16, same k-means|| seeds"
 	p.X.Label.Text = "seconds (log scale)"
 	p.Y.Label.Text = "cost above full Lloyd's final cost (%)"
 	p.X.Scale = gplot.LogScale{}
