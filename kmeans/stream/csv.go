@@ -80,7 +80,12 @@ func newCSV(r io.Reader, name string, o *Options) (*CSV, error) {
 		return nil, err
 	}
 	var err error
-	if c.idx, c.names, err = selectColumns(name, c.header, c.opt.Columns); err != nil {
+	if c.opt.Columns != nil && len(c.opt.Columns) == 0 {
+		if len(c.opt.Keep) == 0 {
+			return nil, fmt.Errorf("%w: %s: no columns to read or keep", ErrColumn, name)
+		}
+		c.idx, c.names = []int{}, []string{}
+	} else if c.idx, c.names, err = selectColumns(name, c.header, c.opt.Columns); err != nil {
 		return nil, err
 	}
 	if c.opt.Keep != nil {
@@ -149,6 +154,9 @@ func (c *CSV) Header() []string { return c.header }
 // Kept returns the text of the kept column Options.Keep[j] for the rows of
 // the last Read, in order. The slice is reused by the next Read.
 func (c *CSV) Kept(j int) []string { return c.kept[j] }
+
+// Keep returns the names of the kept columns (Options.Keep).
+func (c *CSV) Keep() []string { return c.opt.Keep }
 
 // Records returns the 0-based data record numbers (after the header) of
 // the rows of the last Read, so that a caller skipping bad rows can tell

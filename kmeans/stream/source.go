@@ -46,7 +46,9 @@ type Rejecter interface {
 type Options struct {
 	// Columns names the columns to read, in this order. For a file (CSV,
 	// Parquet) the names select columns of its header or schema; nil
-	// means every column, all of which must then be numeric. For a matrix
+	// means every column, all of which must then be numeric; an empty,
+	// non-nil slice means none, for a file read only for its Keep columns
+	// (Dim is then 0 and each Read reads up to len(dst) rows). For a matrix
 	// or a sequence, which have no names of their own, Columns names their
 	// columns (nil: unnamed).
 	Columns []string
@@ -131,9 +133,16 @@ func listNames(names []string) string {
 	return s
 }
 
-// rows returns how many whole rows of d values fit in dst; it panics when
-// none does (programmer misuse of Read).
+// rows returns how many whole rows of d values fit in dst (len(dst) when
+// d is 0: a source of kept text only); it panics when none does
+// (programmer misuse of Read).
 func rows(dst []float64, d int) int {
+	if d == 0 {
+		if len(dst) < 1 {
+			panic("stream: Read buffer holds less than one row")
+		}
+		return len(dst)
+	}
 	m := len(dst) / d
 	if m < 1 {
 		panic("stream: Read buffer holds less than one row")

@@ -99,7 +99,11 @@ func New(r io.ReaderAt, size int64, name string, o *stream.Options) (*Source, er
 	if want == nil {
 		want = all
 	}
-	if s.cols, err = s.lookup(want, all, true); err != nil {
+	if len(want) == 0 && opt.Columns != nil {
+		if len(opt.Keep) == 0 {
+			return nil, fmt.Errorf("%w: %s: no columns to read or keep", stream.ErrColumn, name)
+		}
+	} else if s.cols, err = s.lookup(want, all, true); err != nil {
 		return nil, err
 	}
 	s.names = append([]string(nil), want...)
@@ -224,6 +228,9 @@ func (s *Source) Rejected() int64 { return s.rej }
 // the last Read. The slice is reused by the next Read.
 func (s *Source) Kept(j int) []string { return s.kept[j] }
 
+// Keep returns the names of the kept columns (Options.Keep).
+func (s *Source) Keep() []string { return s.opt.Keep }
+
 // Records returns the 0-based file rows of the rows of the last Read. The
 // slice is reused by the next Read.
 func (s *Source) Records() []int64 { return s.recs }
@@ -231,7 +238,10 @@ func (s *Source) Records() []int64 { return s.recs }
 // Read implements stream.Source.
 func (s *Source) Read(dst []float64) (int, error) {
 	d := len(s.cols)
-	m := len(dst) / d
+	m := len(dst)
+	if d > 0 {
+		m /= d
+	}
 	if m < 1 {
 		panic("parquet: Read buffer holds less than one row")
 	}
