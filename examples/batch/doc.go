@@ -33,6 +33,22 @@
 // cluster in the units of the data (on a uniform sample of at most -sample
 // rows).
 //
+// score compares a found labelling with a ground truth: the truth column
+// of -in (any text) against the found column of -in itself or of a labels
+// file (-labels, joined by row order or by an -id column of both), and,
+// with -centers (published centers, one per row) and -model, the centroid
+// index between them. It prints every external index (validate.Compare)
+// as text, or as the versioned JSON report with -json (keys "ari", "nmi",
+// "ami", "v_measure", "homogeneity", "completeness", "fowlkes_mallows",
+// "purity", "inverse_purity", "centroid_index"). Thresholds make it a CI
+// check: -min-ari, -min-nmi, -min-ami, -min-v, -min-purity, -min-fm and
+// -max-ci exit with code 3, naming each bar not met. Rows labelled -1 (bad
+// rows) are left out and counted.
+//
+//	batch cluster -in s1.csv -columns x,y -k 15 -seed 1 -model s1.json
+//	batch label -model s1.json -in s1.csv -out s1-labels.csv
+//	batch score -in s1.csv -truth label -labels s1-labels.csv -centers s1-cb.csv -model s1.json -min-ari 0.95 -max-ci 0
+//
 // # Memory
 //
 // -memory sets a budget such as 32MiB or 2GiB (default 256MiB) for the
