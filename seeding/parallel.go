@@ -186,7 +186,6 @@ type ParallelPlan struct {
 	round     int       // sampling rounds done
 	first     bool      // the first candidate is known
 	done      bool      // no more passes
-	weighed   bool      // Weight of the last merged part is for the current candidates
 	cands     []float64 // candidates, row-major
 	weights   []float64 // per candidate, from the last pass that saw all of them
 	packed    nearest.Centers

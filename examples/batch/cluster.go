@@ -24,23 +24,22 @@ import (
 
 // clusterOptions are the flags of the cluster verb.
 type clusterOptions struct {
-	in, format    string
-	columns       list
-	k             kRange
-	seed          uint64
-	model         string
-	memory        size
-	method        string
-	scaler        string
-	metric        string
-	skip          bool
-	workers       int
-	restarts      int
-	sample        int
-	batch         int
-	exactPasses   int
-	maxPasses     int
-	miniBatchOnly bool
+	in, format  string
+	columns     list
+	k           kRange
+	seed        uint64
+	model       string
+	memory      size
+	method      string
+	scaler      string
+	metric      string
+	skip        bool
+	workers     int
+	restarts    int
+	sample      int
+	batch       int
+	exactPasses int
+	maxPasses   int
 }
 
 func clusterFlags(e *env) (*clusterOptions, *flag.FlagSet) {

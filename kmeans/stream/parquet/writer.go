@@ -43,7 +43,7 @@ type WriterOptions struct {
 // with Snappy. Columns appear in the file's schema in the order of their
 // names (the schema's groups are sorted); readers find them by name.
 type Writer struct {
-	w      *pq.Writer
+	w      *pq.GenericWriter[pq.Row]
 	fields []Field
 	index  []int // schema column of each field
 	rows   []pq.Row
@@ -90,7 +90,7 @@ func NewWriter(w io.Writer, fields []Field, o *WriterOptions) (*Writer, error) {
 		leaf, _ := schema.Lookup(f.Name)
 		wr.index[i] = leaf.ColumnIndex
 	}
-	wr.w = pq.NewWriter(w, schema, pq.MaxRowsPerRowGroup(int64(groupRows)))
+	wr.w = pq.NewGenericWriter[pq.Row](w, schema, pq.MaxRowsPerRowGroup(int64(groupRows)))
 	return wr, nil
 }
 
