@@ -254,7 +254,7 @@ func (pl *ParallelPlan) SetFirst(x []float64) error {
 
 func (pl *ParallelPlan) pack() {
 	if pl.euclid {
-		pl.packed.Pack(pl.cands, len(pl.cands)/pl.d, pl.d, nil)
+		pl.packed.Pack(pl.cands, len(pl.cands)/pl.d, pl.d)
 	}
 }
 

@@ -284,10 +284,10 @@ func scalerOf(name string) (scale.Scaler, error) {
 		return scale.ZScore{}, nil
 	case "minmax":
 		return scale.MinMax{}, nil
-	case "robust":
-		return scale.Robust{}, nil
+	case "median-iqr":
+		return scale.MedianIQR{}, nil
 	}
-	return nil, fmt.Errorf("%w: -scaler %q, want none, zscore, minmax or robust", errUsage, name)
+	return nil, fmt.Errorf("%w: -scaler %q, want none, zscore, minmax or median-iqr", errUsage, name)
 }
 
 func metricOf(name string) (distance.Metric, error) {

@@ -151,7 +151,7 @@ func TestClusterLabelProfile(t *testing.T) {
 				require.Equal(t, exitOK, code, errs)
 				assert.Contains(t, out, "profile of 1500 labelled rows")
 				for j := range 5 {
-					assert.Contains(t, out, fmt.Sprintf("cluster %d:", j))
+					assert.Contains(t, out, fmt.Sprintf("cluster %d · ", j))
 				}
 				assert.Contains(t, out, "trips_per_day")
 			}

@@ -150,9 +150,9 @@ func sampleLabelled(ctx context.Context, data, lab fileSource, k, m int, seed ui
 	return mat.NewDense(len(assign), d, X), assign, seen, nil
 }
 
-// describe is the one place the command calls package profile (being
-// redesigned): it profiles the clusters of X in the units of the data.
+// describe is the one place the command calls package profile: it
+// explains the clusters of X in the units of the data, named by the
+// model's schema.
 func describe(X *mat.Dense, model *kmeans.Model, assign []int, features []string) (io.WriterTo, error) {
-	res := &kmeans.Result{Model: model, Assignments: assign}
-	return profile.Describe(X, res, &profile.ProfileOptions{Features: features})
+	return profile.Explain(X, assign, &profile.Options{Names: features, K: model.K()})
 }

@@ -79,7 +79,7 @@ func BenchmarkPassInMemory(b *testing.B) {
 	b.ResetTimer()
 	for range b.N {
 		if _, err := kmeans.Cluster(context.Background(), kmeans.Problem{Data: X, K: benchK, Seeder: seeding.Given{Centers: c}},
-			&kmeans.Settings{Restarts: 1, MaxIterations: 1}, kmeans.Lloyd{}); err != nil {
+			&kmeans.Settings{Restarts: 1, MaxIterations: 1, SwapTrials: -1}, kmeans.Lloyd{}); err != nil {
 			b.Fatal(err)
 		}
 	}

@@ -34,7 +34,7 @@
 //   - n must be known before the first Lloyd pass: Cluster counts the rows
 //     in a first pass when no earlier pass (scaler, seeding) has.
 //   - Rows are unweighted: a stream has no weights.
-//   - Other scalers (Robust, custom) are learned on a uniform sample and
+//   - Other scalers (MedianIQR, custom) are learned on a uniform sample and
 //     so differ from Learn on all rows.
 //   - Convergence is detected by a 128-bit fingerprint of the pass's
 //     assignments instead of comparing labels row by row; a false "no row

@@ -46,7 +46,7 @@ func startCenters(t *testing.T, X *mat.Dense, k int, sc scale.Scaler, seed uint6
 func inMemory(t *testing.T, X *mat.Dense, k int, c0 *mat.Dense, sc scale.Scaler, m distance.Metric) *kmeans.Result {
 	t.Helper()
 	res, err := kmeans.Cluster(context.Background(), kmeans.Problem{Data: X, K: k, Seeder: seeding.Given{Centers: c0}, Scaler: sc, Metric: m},
-		&kmeans.Settings{Restarts: 1, Workers: 2}, kmeans.Lloyd{})
+		&kmeans.Settings{Restarts: 1, Workers: 2, SwapTrials: -1}, kmeans.Lloyd{})
 	require.NoError(t, err)
 	return res
 }

@@ -39,7 +39,7 @@ func newAssigner(m distance.Objective, d, workers int) *assigner {
 func (a *assigner) set(centers []float64, k int) {
 	a.centers, a.k = centers, k
 	if a.euclid {
-		a.packed.Pack(centers, k, a.d, nil)
+		a.packed.Pack(centers, k, a.d)
 	}
 }
 

@@ -186,7 +186,7 @@ func TestExactFromParquetEqualsInMemory(t *testing.T) {
 			c0 := mat.NewDense(tc.k, d, nil)
 			require.NoError(t, seeding.Random{}.Seed(c0, Z, nil, nil, rand.New(rand.NewPCG(5, 0))))
 			want, err := kmeans.Cluster(context.Background(), kmeans.Problem{Data: set.X, K: tc.k, Seeder: seeding.Given{Centers: c0}, Scaler: tc.sc},
-				&kmeans.Settings{Restarts: 1}, kmeans.Lloyd{})
+				&kmeans.Settings{Restarts: 1, SwapTrials: -1}, kmeans.Lloyd{})
 			require.NoError(t, err)
 			// Columns by name: the file's schema lists them sorted by name.
 			src, err := parquet.Open(path, &stream.Options{Columns: names})
