@@ -53,7 +53,7 @@ func clusterFlags(e *env) (*clusterOptions, *flag.FlagSet) {
 	fs.StringVar(&o.model, "model", "", "model file to write, JSON (required)")
 	fs.Var(&o.memory, "memory", "memory budget, such as 16MiB or 2GiB; data that does not fit is streamed")
 	fs.StringVar(&o.method, "method", o.method, "exact (Lloyd), minibatch, or auto: exact in memory when the data fits, else mini-batch with one exact pass")
-	fs.StringVar(&o.scaler, "scaler", o.scaler, "feature scaling: none, zscore, minmax or robust")
+	fs.StringVar(&o.scaler, "scaler", o.scaler, "feature scaling: none, zscore, minmax or median-iqr")
 	fs.StringVar(&o.metric, "metric", o.metric, "euclidean or cosine")
 	fs.BoolVar(&o.skip, "skip", false, "skip bad rows and count them instead of stopping at the first")
 	fs.IntVar(&o.workers, "workers", 0, "goroutines (default: all cores); results do not depend on it")

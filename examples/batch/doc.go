@@ -16,7 +16,7 @@
 //	batch score   -in FILE -truth COLUMN -found COLUMN [-labels LABELS.csv] [-json] [-min-ari X] [-max-ci N]
 //
 // cluster reads the columns named by -columns (all columns by default),
-// scales them (-scaler none, zscore, minmax or robust; none by default,
+// scales them (-scaler none, zscore, minmax or median-iqr; none by default,
 // since scaling changes what "near" means) and writes the model document
 // (json.Marshal of *kmeans.Model, with the feature names) to -model. -k
 // takes one number or a range such as 2..8: a range first runs the
