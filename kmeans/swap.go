@@ -44,13 +44,13 @@ const swapStream = 0x73776170 // "swap"
 const (
 	// DefaultSwapPatience: stop after this many trials in a row without
 	// an accepted swap, times k (see Settings.SwapPatience).
-	DefaultSwapPatience = 8
+	DefaultSwapPatience = 6
 	// DefaultSwapTrialsPerK: the automatic budget is this many trials per
 	// cluster (see Settings.SwapTrials).
 	DefaultSwapTrialsPerK = 100
 	// MinSwapK is the smallest k the automatic rule refines: with few
 	// clusters the restarts already find the best solution.
-	MinSwapK = 8
+	MinSwapK = 10
 	// MaxSwapDim is the largest dimension the automatic rule refines. In
 	// more dimensions distances concentrate, the triangle-inequality
 	// pruning of a trial skips little and a trial costs nearly a full
