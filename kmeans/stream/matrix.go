@@ -80,11 +80,7 @@ func (s *Matrix) Read(dst []float64) (int, error) {
 				row[j] = s.m.At(i, j)
 			}
 		}
-		if j := firstNotFinite(row); j >= 0 {
-			e := &RowError{Source: "matrix", Row: int64(i), Index: j, Value: fmt.Sprint(row[j]), Err: ErrNotFinite}
-			if s.names != nil {
-				e.Column = s.names[j]
-			}
+		if e := notFinite("matrix", int64(i), row, s.names); e != nil {
 			if err := s.bad(e); err != nil {
 				return 0, err
 			}
@@ -106,6 +102,20 @@ func (s *Matrix) Reopen() error {
 }
 
 // firstNotFinite returns the index of the first NaN or ±Inf in x, or -1.
+// notFinite returns the *RowError of row number row of source src if it
+// holds NaN or ±Inf (naming the column when names is not nil), else nil.
+func notFinite(src string, row int64, x []float64, names []string) *RowError {
+	j := firstNotFinite(x)
+	if j < 0 {
+		return nil
+	}
+	e := &RowError{Source: src, Row: row, Index: j, Value: fmt.Sprint(x[j]), Err: ErrNotFinite}
+	if names != nil {
+		e.Column = names[j]
+	}
+	return e
+}
+
 func firstNotFinite(x []float64) int {
 	for j, v := range x {
 		if v-v != 0 {

@@ -90,11 +90,7 @@ func (s *Seq) Read(dst []float64) (int, error) {
 		}
 		row := dst[got*s.d : (got+1)*s.d]
 		copy(row, x)
-		if j := firstNotFinite(row); j >= 0 {
-			e := &RowError{Source: "sequence", Row: i, Index: j, Value: fmt.Sprint(row[j]), Err: ErrNotFinite}
-			if s.names != nil {
-				e.Column = s.names[j]
-			}
+		if e := notFinite("sequence", i, row, s.names); e != nil {
 			if err := s.bad(e); err != nil {
 				return 0, err
 			}
