@@ -101,7 +101,6 @@ func (s *Matrix) Reopen() error {
 	return nil
 }
 
-// firstNotFinite returns the index of the first NaN or ±Inf in x, or -1.
 // notFinite returns the *RowError of row number row of source src if it
 // holds NaN or ±Inf (naming the column when names is not nil), else nil.
 func notFinite(src string, row int64, x []float64, names []string) *RowError {
@@ -116,6 +115,7 @@ func notFinite(src string, row int64, x []float64, names []string) *RowError {
 	return e
 }
 
+// firstNotFinite returns the index of the first NaN or ±Inf in x, or -1.
 func firstNotFinite(x []float64) int {
 	for j, v := range x {
 		if v-v != 0 {
