@@ -239,4 +239,3 @@ func BenchmarkSearch32(b *testing.B) {
 		})
 	}
 }
-
