@@ -9,6 +9,7 @@ import (
 	"github.com/centroidlab/centroid/internal/blocks"
 
 	"github.com/centroidlab/centroid/distance"
+	"gonum.org/v1/gonum/blas/blas32"
 	"gonum.org/v1/gonum/mat"
 )
 
@@ -100,16 +101,46 @@ func (p PlusPlus) Seed(dst *mat.Dense, data *mat.Dense, weights []float64, m dis
 // blocks of every pass over the data, so it returns within about one
 // block of work (see ContextSeeder).
 func (p PlusPlus) SeedContext(ctx context.Context, dst *mat.Dense, data *mat.Dense, weights []float64, m distance.Metric, rnd *rand.Rand) error {
+	if err := p.check(); err != nil {
+		return err
+	}
+	in, err := checkInput(dst, data, weights, m, rnd)
+	if err != nil {
+		return err
+	}
+	return p.seed(ctx, in, rnd)
+}
+
+// SeedFloat32 implements Float32Seeder: SeedContext on float32 data, read
+// in place. Rows are widened (exactly) to float64 one at a time as a pass
+// reads them, into per-block buffers, and the losses are those of the
+// float64 rows bit for bit, so the centers are those of SeedContext on the
+// float64 conversion of data. Extra memory: that of SeedContext plus
+// 2·d float64 per block and d per candidate.
+func (p PlusPlus) SeedFloat32(ctx context.Context, dst *mat.Dense, data blas32.General, weights []float64, m distance.Metric, rnd *rand.Rand) error {
+	if err := p.check(); err != nil {
+		return err
+	}
+	in, err := checkInput32(dst, data, weights, m, rnd)
+	if err != nil {
+		return err
+	}
+	return p.seed(ctx, in, rnd)
+}
+
+// check validates the options.
+func (p PlusPlus) check() error {
 	if p.Candidates < 0 || p.Candidates > MaxCandidates {
 		return fmt.Errorf("%w: PlusPlus.Candidates = %d, want 0 ≤ Candidates ≤ %d", ErrParameter, p.Candidates, MaxCandidates)
 	}
 	if p.Workers < 0 {
 		return fmt.Errorf("%w: PlusPlus.Workers = %d, want ≥ 0", ErrParameter, p.Workers)
 	}
-	in, err := checkInput(dst, data, weights, m, rnd)
-	if err != nil {
-		return err
-	}
+	return nil
+}
+
+// seed runs k-means++ on the checked input.
+func (p PlusPlus) seed(ctx context.Context, in *input, rnd *rand.Rand) error {
 	L := p.candidates(in.k)
 	st := newPlusState(in, L, max(1, p.Workers))
 	st.stop = ctx.Done()
@@ -124,7 +155,7 @@ func (p PlusPlus) SeedContext(ctx context.Context, dst *mat.Dense, data *mat.Den
 		return fmt.Errorf("%w: the sum of the weights overflows", ErrWeights)
 	}
 	chosen[0] = st.draw(rnd, weightSum)
-	if !st.update(in.row(chosen[0]), true) {
+	if !st.update(in.rowTo(st.center64, chosen[0]), true) {
 		return canceled(ctx)
 	}
 	for len(chosen) < in.k {
@@ -149,7 +180,7 @@ func (p PlusPlus) SeedContext(ctx context.Context, dst *mat.Dense, data *mat.Den
 			}
 			best = idx[e]
 		}
-		if !st.update(in.row(best), false) {
+		if !st.update(in.rowTo(st.center64, best), false) {
 			return canceled(ctx)
 		}
 		chosen = append(chosen, best)
@@ -194,6 +225,12 @@ type plusState struct {
 	center  []float64   // the center update adds
 	first   bool        // update adds the first center
 
+	// Float32 data: the rows a block reads, widened (2·d per block), the
+	// widened candidates (d each) and the center being added.
+	rowBufs  []float64
+	candBufs [][]float64
+	center64 []float64
+
 	stop <-chan struct{} // closed when the caller's context ends
 
 	// Bound once so that passes do not allocate.
@@ -217,7 +254,25 @@ func newPlusState(in *input, L, workers int) *plusState {
 		st.pots = make([]float64, bl.Count()*L)
 		st.cands = make([][]float64, 0, L)
 	}
+	if in.x32 != nil {
+		st.rowBufs = make([]float64, 2*in.d*bl.Count())
+		st.center64 = make([]float64, in.d)
+		st.candBufs = make([][]float64, L)
+		for c := range st.candBufs {
+			st.candBufs[c] = make([]float64, in.d)
+		}
+	}
 	return st
+}
+
+// rowIn returns row i as block b reads it: a view of float64 data, or the
+// float32 row widened into the block's buffer slot (0 or 1).
+func (st *plusState) rowIn(b, slot, i int) []float64 {
+	if st.x32 == nil {
+		return st.row(i)
+	}
+	o := (2*b + slot) * st.d
+	return st.rowTo(st.rowBufs[o:o+st.d], i)
 }
 
 // term returns w_i·near[i], the unnormalized probability of drawing row i.
@@ -301,13 +356,13 @@ func (st *plusState) updateBlock(b int) {
 		}
 		if st.euclid && i+1 < hi && st.weight(i+1) != 0 {
 			// Two rows at once; (c−x)² has the bits of (x−c)².
-			l0, l1 := sqEuclidean2(c, st.row(i), st.row(i+1))
+			l0, l1 := sqEuclidean2(c, st.rowIn(b, 0, i), st.rowIn(b, 1, i+1))
 			s += w * st.lower(i, l0, first)
 			i++
 			s += st.weight(i) * st.lower(i, l1, first)
 			continue
 		}
-		s += w * st.lower(i, st.loss(st.row(i), c), first)
+		s += w * st.lower(i, st.loss(st.rowIn(b, 0, i), c), first)
 	}
 	st.sums[b] = s
 }
@@ -328,7 +383,11 @@ func (st *plusState) lower(i int, l float64, first bool) float64 {
 // sums unchanged. ok is false if the caller's context ended first.
 func (st *plusState) evaluate(idx []int) (best int, ok bool) {
 	st.cands = st.cands[:0]
-	for _, i := range idx {
+	for c, i := range idx {
+		if st.x32 != nil {
+			st.cands = append(st.cands, st.rowTo(st.candBufs[c], i))
+			continue
+		}
 		st.cands = append(st.cands, st.row(i))
 	}
 	L := len(st.cands)
@@ -366,7 +425,7 @@ func (st *plusState) evalBlock(b int) {
 		if w == 0 {
 			continue
 		}
-		x, nr := st.row(i), st.near[i]
+		x, nr := st.rowIn(b, 0, i), st.near[i]
 		c := 0
 		if st.euclid {
 			for ; c+1 < L; c += 2 {
