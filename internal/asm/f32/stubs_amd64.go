@@ -77,8 +77,7 @@ func PackShift(dst, r2, x, shift []float32, m int) []float32 {
 	d := len(shift)
 	checkPackShift(len(dst), len(r2), len(x), d, m)
 	lo := 0
-	// The gather addresses rows by 32-bit element offsets i·d.
-	if hasAVX512 && m >= Panel && d <= 1<<26 {
+	if hasAVX512 && m >= Panel {
 		packShiftAVX512(&dst[0], &r2[0], &x[0], &shift[0], m/Panel, d)
 		lo = m / Panel * Panel
 	}

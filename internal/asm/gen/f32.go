@@ -13,11 +13,6 @@ func avx512F32(a *asm) {
 	a.p("")
 	a.p("DATA two512<>+0(SB)/4, $0x40000000")
 	a.p("GLOBL two512<>(SB), RODATA|NOPTR, $4")
-	a.p("DATA iota512<>+0(SB)/4, $0")
-	for l := 1; l < 16; l++ {
-		a.p("DATA iota512<>+%d(SB)/4, $%d", 4*l, l)
-	}
-	a.p("GLOBL iota512<>(SB), RODATA|NOPTR, $64")
 	best2AVX512F32(a)
 	packShiftAVX512F32(a)
 	fmaLoopPS(a, "fmaLoopAVX512", z, "VPXORQ", 12)
@@ -187,12 +182,17 @@ func merge512F32(a *asm, acc string, r, q int) {
 
 // packShiftAVX512F32 writes packShiftAVX512(dst, r2, x, shift *float32,
 // panels, d int): for each of the full panels of 16 rows of x (row-major,
-// d columns), x − shift in the packed layout and each row's squared norm.
-// Coordinate t of the 16 rows is one gather (row offsets i·d in Z28).
+// d columns, so that a panel is 64d contiguous bytes), x − shift in the
+// packed layout and each row's squared norm. Sixteen columns of the 16
+// rows are loaded (the last chunk masked), shifted, transposed in
+// registers (four stages of 16 shuffles) and stored as 16 coordinate
+// vectors.
 //
-//	SI first row of the panel  DI packed panel  DX shift  BX r2
-//	CX panels left  R11 t  R12 d  R13 16·4d (panel stride in x)
-//	Z0 coordinate  Z1 shift  Z2 norms  Z28 row offsets  K1 gather mask
+//	SI, R8, R14, R15 rows 0–3, 4–7, 8–11, 12–15 of the panel at column t
+//	R9 row stride 4d   R10 3·4d   DI packed panel   DX shift   BX r2
+//	R11 t   R12 d   CX panels left   AX, R13 temporaries
+//	Z0–Z17 rows / coordinates (renamed as the stages go), Z24 shift,
+//	Z25 norms, K1 column mask
 func packShiftAVX512F32(a *asm) {
 	a.p("")
 	a.p("// func packShiftAVX512(dst, r2, x, shift *float32, panels, d int)")
@@ -203,34 +203,104 @@ func packShiftAVX512F32(a *asm) {
 	a.i("MOVQ shift+24(FP), DX")
 	a.i("MOVQ panels+32(FP), CX")
 	a.i("MOVQ d+40(FP), R12")
-	a.i("MOVQ R12, R13")
-	a.i("SHLQ $6, R13")
-	a.i("VPBROADCASTD R12, Z28")
-	a.i("VPMULLD iota512<>(SB), Z28, Z28")
+	a.i("LEAQ (R12*4), R9")
+	a.i("LEAQ (R9)(R9*2), R10")
 	a.p("panelpack:")
 	a.i("TESTQ CX, CX")
 	a.i("JLE donepack")
-	a.i("VPXORQ Z2, Z2, Z2")
+	a.i("LEAQ (SI)(R9*4), R8")
+	a.i("LEAQ (R8)(R9*4), R14")
+	a.i("LEAQ (R14)(R9*4), R15")
+	a.i("VPXORQ Z25, Z25, Z25")
 	a.i("XORQ R11, R11")
-	a.p("colpack:")
-	a.i("KXNORW K1, K1, K1")
-	a.i("VPXORQ Z0, Z0, Z0")
-	a.i("VGATHERDPS (SI)(Z28*4), K1, Z0")
-	a.i("VBROADCASTSS (DX)(R11*4), Z1")
-	a.i("VSUBPS Z1, Z0, Z0")
-	a.i("VMOVUPS Z0, (DI)")
-	a.i("VFMADD231PS Z0, Z0, Z2")
-	a.i("ADDQ $64, DI")
-	a.i("ADDQ $4, SI")
-	a.i("INCQ R11")
-	a.i("CMPQ R11, R12")
-	a.i("JLT colpack")
-	a.i("VMOVUPS Z2, (BX)")
+	a.p("chunkpack:")
+	a.i("MOVQ R12, AX")
+	a.i("SUBQ R11, AX")
+	a.i("JLE endpack")
+	a.i("MOVQ $16, R13")
+	a.i("CMPQ AX, R13")
+	a.i("CMOVQGT R13, AX")
+	a.i("MOVL $0xFFFF, R13")
+	a.i("BZHIQ AX, R13, R13")
+	a.i("KMOVW R13, K1")
+	a.i("VMOVUPS.Z (DX)(R11*4), K1, Z24")
+	// cur[i] is the register of logical vector i; free the spare ones.
+	var cur [16]int
+	free := []int{16, 17}
+	bases := []string{"SI", "R8", "R14", "R15"}
+	offs := []string{"(%s)", "(%s)(R9*1)", "(%s)(R9*2)", "(%s)(R10*1)"}
+	for i := range 16 {
+		cur[i] = i
+		a.i("VMOVUPS.Z "+offs[i%4]+", K1, %s", bases[i/4], z(i))
+		a.i("VSUBPS Z24, %s, %s", z(i), z(i))
+	}
+	// pair computes lo(a, b) into a fresh register and hi(a, b) in place
+	// of a, and frees b; it returns the registers of lo and hi.
+	pair := func(lo, hi string, ra, rb int) (int, int) {
+		t := free[len(free)-1]
+		free = free[:len(free)-1]
+		a.i(lo, z(rb), z(ra), z(t))
+		a.i(hi, z(rb), z(ra), z(ra))
+		free = append(free, rb)
+		return t, ra
+	}
+	// Stage 1: rows 2i and 2i+1 interleaved by element.
+	var t1 [16]int
+	for i := range 8 {
+		t1[2*i], t1[2*i+1] = pair("VUNPCKLPS %s, %s, %s", "VUNPCKHPS %s, %s, %s", cur[2*i], cur[2*i+1])
+	}
+	// Stage 2: by pairs of elements; s2[4g+c] holds, in 128-bit lane L,
+	// column 4L+c of rows 4g…4g+3.
+	var s2 [16]int
+	for g := range 4 {
+		s2[4*g], s2[4*g+1] = pair("VUNPCKLPD %s, %s, %s", "VUNPCKHPD %s, %s, %s", t1[4*g], t1[4*g+2])
+		s2[4*g+2], s2[4*g+3] = pair("VUNPCKLPD %s, %s, %s", "VUNPCKHPD %s, %s, %s", t1[4*g+1], t1[4*g+3])
+	}
+	// Stage 3: lanes of row groups (0–3, 4–7) and (8–11, 12–15):
+	// u[h][c] = columns c, 8+c of the eight rows, v[h][c] = 4+c, 12+c.
+	var u, v [2][4]int
+	for h := range 2 {
+		for c := range 4 {
+			u[h][c], v[h][c] = pair("VSHUFF32X4 $0x88, %s, %s, %s", "VSHUFF32X4 $0xDD, %s, %s, %s", s2[8*h+c], s2[8*h+4+c])
+		}
+	}
+	// Stage 4: the two halves of the rows; col[j] is column j of all 16.
+	var col [16]int
+	for c := range 4 {
+		col[c], col[8+c] = pair("VSHUFF32X4 $0x88, %s, %s, %s", "VSHUFF32X4 $0xDD, %s, %s, %s", u[0][c], u[1][c])
+		col[4+c], col[12+c] = pair("VSHUFF32X4 $0x88, %s, %s, %s", "VSHUFF32X4 $0xDD, %s, %s, %s", v[0][c], v[1][c])
+	}
+	for j := range 16 {
+		a.i("VFMADD231PS %s, %s, Z25", z(col[j]), z(col[j]))
+	}
+	for j := range 16 {
+		a.i("VMOVUPS %s, %d(DI)", z(col[j]), 64*j)
+		if j < 15 {
+			a.i("CMPQ AX, $%d", j+2)
+			a.i("JLT nextpack")
+		}
+	}
+	a.p("nextpack:")
+	a.i("SHLQ $6, AX")
+	a.i("ADDQ AX, DI")
+	a.i("ADDQ $16, R11")
+	for _, b := range bases {
+		a.i("ADDQ $64, %s", b)
+	}
+	a.i("JMP chunkpack")
+	a.p("endpack:")
+	a.i("VMOVUPS Z25, (BX)")
 	a.i("ADDQ $64, BX")
-	// SI has advanced by 4d bytes (one row); move to the next panel.
-	a.i("LEAQ (R12*4), AX")
+	// SI has advanced by 64·ceil(d/16) bytes; the next panel starts 16
+	// rows (16·4d bytes) after this one's first row.
+	a.i("MOVQ R12, AX")
+	a.i("ADDQ $15, AX")
+	a.i("SHRQ $4, AX")
+	a.i("SHLQ $6, AX")
 	a.i("SUBQ AX, SI")
-	a.i("ADDQ R13, SI")
+	a.i("SHLQ $2, R9")
+	a.i("LEAQ (SI)(R9*4), SI")
+	a.i("SHRQ $2, R9")
 	a.i("DECQ CX")
 	a.i("JMP panelpack")
 	a.p("donepack:")
