@@ -5,6 +5,7 @@ import (
 	"math"
 
 	"github.com/centroidlab/centroid/distance"
+	"github.com/centroidlab/centroid/internal/asm/f32"
 	"github.com/centroidlab/centroid/internal/nearest"
 	"gonum.org/v1/gonum/floats"
 )
@@ -70,17 +71,21 @@ func (p *Partial) addScaled(j int, x []float64, s, w, loss float64) {
 	p.Cost[j] += w * loss
 }
 
-// addScaled32 is addScaled for a float32 row: the row is widened (exactly)
-// into p's scratch and added by the same gonum call, so the sums have the
-// bits of adding the float64 row.
+// addScaled32 is addScaled for a float32 row, with the bits of adding the
+// float64 row: in AVX-512 (f32.AddScaled: a multiply and an add per
+// element, as gonum's amd64 assembly does), or else widened into p's
+// scratch and added by the same gonum call.
 func (p *Partial) addScaled32(j int, x []float32, s, w, loss float64) {
 	if len(x) != p.D {
 		panic("kmeans: Partial.Add row length differs from D")
 	}
-	if len(p.wide) < p.D {
-		p.wide = make([]float64, p.D)
+	sum := p.Sum[j*p.D : (j+1)*p.D]
+	if !f32.AddScaled(sum, s, x) {
+		if len(p.wide) < p.D {
+			p.wide = make([]float64, p.D)
+		}
+		floats.AddScaled(sum, s, nearest.Widen(p.wide, x))
 	}
-	floats.AddScaled(p.Sum[j*p.D:(j+1)*p.D], s, nearest.Widen(p.wide, x))
 	p.Weight[j] += w
 	p.Count[j]++
 	p.Cost[j] += w * loss

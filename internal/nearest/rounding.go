@@ -97,5 +97,5 @@ func (r Rounding) Slack32(rowNorm2, maxNorm2 float64) float64 {
 	if r.d > maxDim32 || !(s <= 0x1p100) {
 		return math.Inf(1)
 	}
-	return float64(2*r.d+18)*unit32*2*s + 0x1p-100
+	return 17*float64(r.d+8)/16*unit32*s + 0x1p-100
 }

@@ -23,7 +23,8 @@ type Searcher32 struct {
 // distance of row i (converted to float64) to center j, in any summation
 // order. It runs the float32 kernel over all centers and accepts its
 // answer for a row when the second best value exceeds the best by more
-// than twice the row's float32 slack (see Centers32.Pack). For the other
+// than the row's float32 slack of the best center plus that of the
+// largest center (see Centers32.Pack). For the other
 // rows it runs the float64 one-row kernel f64.Best2Row on the row's
 // float64 values, accepted under the float64 slack (see Centers.Pack),
 // and where even that is not certain it evaluates direct for every center
@@ -58,8 +59,9 @@ func (s *Searcher32) Assign(dst []int, x []float32, m int, c *Centers32, direct 
 		f32.Best2(s.idx, s.best, s.second, s.x, d, c.c[:q*d], c.norm2[:q], p, q)
 	}
 	for i := range m {
-		t := c.round.Slack32(float64(s.r2[i]), c.maxNorm2)
-		if float64(s.second[i])-float64(s.best[i]) > 2*t {
+		r2 := float64(s.r2[i])
+		t := c.round.Slack32(r2, c.maxNorm2) + c.round.Slack32(r2, c.rho2[s.idx[i]])
+		if float64(s.second[i])-float64(s.best[i]) > t {
 			dst[i] = int(s.idx[i])
 			continue
 		}

@@ -207,7 +207,7 @@ func TestSlack32Limits(t *testing.T) {
 	require.True(t, math.IsInf(r.Slack32(math.NaN(), 1), 1))
 	require.True(t, math.IsInf(r.Slack32(0x1p101, 1), 1))
 	require.True(t, math.IsInf(NewRounding(1<<16+1).Slack32(1, 1), 1))
-	require.Equal(t, float64(2*16+18)*0x1p-24*2*7+0x1p-100, r.Slack32(3, 4))
+	require.Equal(t, 17*float64(16+8)/16*0x1p-24*7+0x1p-100, r.Slack32(3, 4))
 	// At least the float32 rounding of each coordinate of a squared
 	// distance of 7 (a lower bound for any correct slack).
 	require.Greater(t, r.Slack32(3, 4), 7*0x1p-24)

@@ -660,6 +660,38 @@ donepack:
 	VZEROUPPER
 	RET
 
+// func addScaledAVX512(dst *float64, alpha float64, x *float32, n int)
+TEXT ·addScaledAVX512(SB), NOSPLIT, $0-32
+	MOVQ dst+0(FP), DI
+	VBROADCASTSD alpha+8(FP), Z1
+	MOVQ x+16(FP), SI
+	MOVQ n+24(FP), CX
+	XORQ AX, AX
+loopaxpy:
+	MOVQ CX, R8
+	SUBQ AX, R8
+	CMPQ R8, $8
+	JLT tailaxpy
+	VCVTPS2PD (SI)(AX*4), Z0
+	VMULPD Z1, Z0, Z0
+	VADDPD (DI)(AX*8), Z0, Z0
+	VMOVUPD Z0, (DI)(AX*8)
+	ADDQ $8, AX
+	JMP loopaxpy
+tailaxpy:
+	TESTQ R8, R8
+	JLE doneaxpy
+	MOVL $0xFF, R9
+	BZHIQ R8, R9, R9
+	KMOVW R9, K1
+	VCVTPS2PD.Z (SI)(AX*4), K1, Z0
+	VMULPD Z1, Z0, Z0
+	VADDPD.Z (DI)(AX*8), Z0, K1, Z0
+	VMOVUPD Z0, K1, (DI)(AX*8)
+doneaxpy:
+	VZEROUPPER
+	RET
+
 // func fmaLoopAVX512(n int)
 TEXT ·fmaLoopAVX512(SB), NOSPLIT, $0-8
 	MOVQ n+0(FP), CX

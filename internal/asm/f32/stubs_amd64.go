@@ -65,6 +65,9 @@ func packShiftAVX512(dst, r2, x, shift *float32, panels, d int)
 func fmaLoopAVX512(n int)
 
 //go:noescape
+func addScaledAVX512(dst *float64, alpha float64, x *float32, n int)
+
+//go:noescape
 func fmaLoopAVX2(n int)
 
 // PackShift writes the m rows of x (m×d row-major, d = len(shift)) minus
@@ -113,4 +116,24 @@ func Kernel() string {
 		return "avx2"
 	}
 	return "go"
+}
+
+// AddScaled sets dst[i] += alpha·float64(x[i]) for i < len(x), with the
+// product and the sum each rounded to float64 (a multiplication and an
+// addition, never a fused multiply-add): the bits of gonum's
+// floats.AddScaled on the widened row where gonum runs its amd64
+// assembly. It reports whether it ran; it does nothing and returns false
+// where no AVX-512 kernel exists, and the caller then widens the row
+// itself. It panics if len(dst) < len(x).
+func AddScaled(dst []float64, alpha float64, x []float32) bool {
+	if !hasAVX512 {
+		return false
+	}
+	if len(dst) < len(x) {
+		panic(panicShort)
+	}
+	if len(x) > 0 {
+		addScaledAVX512(&dst[0], alpha, &x[0], len(x))
+	}
+	return true
 }

@@ -60,3 +60,13 @@ func PeakLoop(n int) float64 {
 
 // Kernel names the implementation Best2 runs: "go", the pure-Go code.
 func Kernel() string { return "go" }
+
+// AddScaled would set dst[i] += alpha·float64(x[i]) with a kernel; this
+// build has none, so it does nothing and returns false (the caller then
+// widens the row itself). It panics if len(dst) < len(x).
+func AddScaled(dst []float64, alpha float64, x []float32) bool {
+	if len(dst) < len(x) {
+		panic(panicShort)
+	}
+	return false
+}

@@ -15,6 +15,7 @@ func avx512F32(a *asm) {
 	a.p("GLOBL two512<>(SB), RODATA|NOPTR, $4")
 	best2AVX512F32(a)
 	packShiftAVX512F32(a)
+	addScaledAVX512F32(a)
 	fmaLoopPS(a, "fmaLoopAVX512", z, "VPXORQ", 12)
 }
 
@@ -458,6 +459,47 @@ func best2AVX2F32(a *asm) {
 	a.i("ADDQ $16, CX")
 	a.i("JMP rows256")
 	a.p("done256:")
+	a.i("VZEROUPPER")
+	a.i("RET")
+}
+
+// addScaledAVX512F32 writes addScaledAVX512(dst *float64, alpha float64,
+// x *float32, n int): dst[i] += alpha·x[i] for i < n, eight at a time
+// (the last chunk masked), x widened exactly, the product and the sum
+// each rounded (a multiply and an add, no fused multiply-add).
+//
+//	DI dst  SI x  CX n  AX i  R8 count  R9 mask bits  Z1 alpha
+func addScaledAVX512F32(a *asm) {
+	a.p("")
+	a.p("// func addScaledAVX512(dst *float64, alpha float64, x *float32, n int)")
+	a.p("TEXT ·addScaledAVX512(SB), NOSPLIT, $0-32")
+	a.i("MOVQ dst+0(FP), DI")
+	a.i("VBROADCASTSD alpha+8(FP), Z1")
+	a.i("MOVQ x+16(FP), SI")
+	a.i("MOVQ n+24(FP), CX")
+	a.i("XORQ AX, AX")
+	a.p("loopaxpy:")
+	a.i("MOVQ CX, R8")
+	a.i("SUBQ AX, R8")
+	a.i("CMPQ R8, $8")
+	a.i("JLT tailaxpy")
+	a.i("VCVTPS2PD (SI)(AX*4), Z0")
+	a.i("VMULPD Z1, Z0, Z0")
+	a.i("VADDPD (DI)(AX*8), Z0, Z0")
+	a.i("VMOVUPD Z0, (DI)(AX*8)")
+	a.i("ADDQ $8, AX")
+	a.i("JMP loopaxpy")
+	a.p("tailaxpy:")
+	a.i("TESTQ R8, R8")
+	a.i("JLE doneaxpy")
+	a.i("MOVL $0xFF, R9")
+	a.i("BZHIQ R8, R9, R9")
+	a.i("KMOVW R9, K1")
+	a.i("VCVTPS2PD.Z (SI)(AX*4), K1, Z0")
+	a.i("VMULPD Z1, Z0, Z0")
+	a.i("VADDPD.Z (DI)(AX*8), Z0, K1, Z0")
+	a.i("VMOVUPD Z0, K1, (DI)(AX*8)")
+	a.p("doneaxpy:")
 	a.i("VZEROUPPER")
 	a.i("RET")
 }
