@@ -114,6 +114,9 @@ func NewSpace(p Problem) (sp *Space, err error) {
 			sp, err = nil, panicError(stage, v)
 		}
 	}()
+	if check.NilPointer(p.Data) {
+		return nil, fmt.Errorf("%w: data is a nil %T", ErrData, p.Data)
+	}
 	n, d, err := check.Matrix(p.Data, ErrData)
 	if err != nil {
 		return nil, err
