@@ -67,6 +67,9 @@ type float32Case struct {
 func sameAsFloat64(t *testing.T, c float32Case) {
 	t.Helper()
 	x64 := mat.DenseCopyOf(c.x)
+	if raceOn {
+		c.workers = []int{7} // the race detector slows these tests ten times
+	}
 	for _, m := range c.methods {
 		p64, p32 := c.p, c.p
 		p64.Data, p32.Data = x64, c.x
