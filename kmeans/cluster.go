@@ -64,7 +64,7 @@ func Cluster(ctx context.Context, p Problem, s *Settings, m Method) (*Result, er
 	if check.NilPointer(seeder) {
 		return nil, fmt.Errorf("%w: seeder is a nil %T", ErrSeeding, seeder)
 	}
-	sp, err := NewSpace(p)
+	sp, err := newProblemSpace(p)
 	if err != nil {
 		return nil, err
 	}

@@ -198,7 +198,12 @@ func TestFloat32SeedersAndScalers(t *testing.T) {
 // Add agree with the float64 space.
 func TestFloat32Space(t *testing.T) {
 	x := blobs32(300, 5, 3, 13, 0)
-	sp, err := NewSpace(Problem{Data: x, K: 3})
+	// NewSpace, whose callers read X, widens; Cluster's space does not.
+	wsp, err := NewSpace(Problem{Data: x, K: 3})
+	require.NoError(t, err)
+	require.Nil(t, wsp.X32)
+	require.Equal(t, mat.DenseCopyOf(x).RawMatrix().Data, wsp.X)
+	sp, err := newProblemSpace(Problem{Data: x, K: 3})
 	require.NoError(t, err)
 	require.Nil(t, sp.X)
 	require.Same(t, &x.RawMatrix32().Data[0], &sp.X32[0])
@@ -220,7 +225,7 @@ func TestFloat32Space(t *testing.T) {
 	require.Nil(t, scaled.X32)
 	require.Len(t, scaled.X, 300*5)
 	// A strided float32 matrix is compacted (to float32), not widened.
-	sp, err = NewSpace(Problem{Data: strided32{x}})
+	sp, err = newProblemSpace(Problem{Data: strided32{x}})
 	require.NoError(t, err)
 	require.Equal(t, x.RawMatrix32().Data, sp.X32)
 }

@@ -26,8 +26,9 @@ type Space struct {
 	// float32 (X32). Never modify it: it may be the caller's data.
 	X []float64
 	// X32 holds the rows when the data is float32 (a RawMatrixer32 such
-	// as Dense32) and there is no scaler: the caller's values, read in
-	// place. Exactly one of X and X32 is non-nil. RowTo, Loss and Add work
+	// as Dense32) and there is no scaler, in the space Cluster passes to
+	// a Method: the caller's values, read in place (NewSpace widens them
+	// into X). Exactly one of X and X32 is non-nil. RowTo, Loss and Add work
 	// on either; a Method that reads X directly must handle X32 too (the
 	// float64 conversion of its values is the clustering space).
 	X32 []float32
@@ -103,11 +104,27 @@ const (
 // under Cosine), ErrSchema (bad p.Features) or ErrPanic (the scaler or the
 // metric panicked). p is never modified.
 //
-// Float32 data (p.Data implements RawMatrixer32, as Dense32 does) without
-// a scaler is used in place (X32; copied to float32 only if its stride
-// exceeds its columns): no float64 copy is made. With a scaler the scaled
-// space is float64 (X), as for any data.
-func NewSpace(p Problem) (sp *Space, err error) {
+// Float32 data (p.Data implements RawMatrixer32, as Dense32 does) gets a
+// float64 space here: X holds its float64 conversion (n·d float64),
+// because callers of NewSpace read X. Cluster does not make that copy: the
+// space it hands its Methods keeps the caller's float32 rows in X32 when
+// there is no scaler. With a scaler the scaled space is float64, as for
+// any data.
+func NewSpace(p Problem) (*Space, error) {
+	sp, err := newProblemSpace(p)
+	if err != nil || sp.X32 == nil {
+		return sp, err
+	}
+	x := sp.rows64()
+	wsp := newSpaceOf(x, nil, sp.N, sp.D, sp.W, sp.Metric, 1)
+	wsp.Scaler, wsp.rawW, wsp.wscale = sp.Scaler, sp.rawW, sp.wscale
+	return wsp, nil
+}
+
+// newProblemSpace is NewSpace keeping float32 rows without a scaler in
+// place (X32, copied to float32 only if the stride exceeds the columns):
+// the space of Cluster.
+func newProblemSpace(p Problem) (sp *Space, err error) {
 	stage := fmt.Sprintf("scaler %T", p.Scaler)
 	defer func() {
 		if v := recover(); v != nil {
