@@ -109,6 +109,13 @@ func (sp *Space) withinMagnitude(limit float64) bool {
 			return false
 		}
 	}
+	if sp.X32 != nil && limit < math.MaxFloat32 {
+		for _, v := range sp.X32 {
+			if math.Abs(float64(v)) > limit {
+				return false
+			}
+		}
+	}
 	for _, w := range sp.W {
 		if w > limit {
 			return false
@@ -135,9 +142,17 @@ func (b *bounds) loss(x, c []float64) float64 {
 	return distance.Manhattan{}.Distance(x, c)
 }
 
-// rowLoss returns the loss of row i against center j of centers.
+// rowLoss returns the loss of row i against center j of centers (for
+// float32 rows, the bits of their float64 conversion).
 func (b *bounds) rowLoss(i int, centers []float64, j int) float64 {
-	return b.loss(b.sp.X[i*b.d:(i+1)*b.d], centers[j*b.d:(j+1)*b.d])
+	c := centers[j*b.d : (j+1)*b.d]
+	if x := b.sp.X32; x != nil {
+		if b.euclid {
+			return nearest.SqDist(x[i*b.d:(i+1)*b.d], c)
+		}
+		return nearest.AbsDist(x[i*b.d:(i+1)*b.d], c)
+	}
+	return b.loss(b.sp.X[i*b.d:(i+1)*b.d], c)
 }
 
 // centerDist returns the computed distance between two centers, by the same
@@ -269,6 +284,8 @@ func kernelTile(d int) int { return min(256, max(16, (8192/d)&^3)) }
 // scratch is one goroutine's working memory inside Space.Parallel.
 type scratch struct {
 	s      nearest.Searcher
+	s32    nearest.Searcher32
+	row    []float64 // one row widened to float64
 	res    []int
 	f      []float64 // k: losses of one row (Hamerly)
 	groupV []float64 // per group: new lower bounds of one row (Yinyang)

@@ -11,6 +11,7 @@ import (
 	"github.com/centroidlab/centroid/internal/blocks"
 	"github.com/centroidlab/centroid/internal/check"
 	"github.com/centroidlab/centroid/seeding"
+	"gonum.org/v1/gonum/blas/blas32"
 	"gonum.org/v1/gonum/mat"
 )
 
@@ -63,7 +64,7 @@ func Cluster(ctx context.Context, p Problem, s *Settings, m Method) (*Result, er
 	if check.NilPointer(seeder) {
 		return nil, fmt.Errorf("%w: seeder is a nil %T", ErrSeeding, seeder)
 	}
-	sp, err := NewSpace(p)
+	sp, err := newProblemSpace(p)
 	if err != nil {
 		return nil, err
 	}
@@ -227,11 +228,16 @@ func runRestart(ctx context.Context, sp *Space, k, restart int, seeder seeding.S
 	if cs, ok := seeder.(seeding.Concurrent); ok {
 		seeder = cs.WithWorkers(sp.Workers())
 	}
-	data := mat.NewDense(sp.N, d, sp.X)
-	if cs, ok := seeder.(seeding.ContextSeeder); ok {
-		err = cs.SeedContext(ctx, centers, data, sp.W, sp.Metric, rnd)
+	if s32, ok := seeder.(seeding.Float32Seeder); ok && sp.X32 != nil {
+		data := blas32.General{Rows: sp.N, Cols: d, Stride: d, Data: sp.X32}
+		err = s32.SeedFloat32(ctx, centers, data, sp.W, sp.Metric, rnd)
 	} else {
-		err = seeder.Seed(centers, data, sp.W, sp.Metric, rnd)
+		data := mat.NewDense(sp.N, d, sp.rows64())
+		if cs, ok := seeder.(seeding.ContextSeeder); ok {
+			err = cs.SeedContext(ctx, centers, data, sp.W, sp.Metric, rnd)
+		} else {
+			err = seeder.Seed(centers, data, sp.W, sp.Metric, rnd)
+		}
 	}
 	if err != nil {
 		switch {
@@ -374,10 +380,11 @@ func (sp *Space) exactCost(centers []float64, assign []int, k int, perCluster []
 	parts := make([][]float64, sp.Blocks())
 	sp.Parallel(func(b int) {
 		c := make([]float64, k)
+		buf := make([]float64, d)
 		lo, hi := sp.Block(b)
 		for i := lo; i < hi; i++ {
 			a := assign[i]
-			c[a] += sp.Weight(i) * sp.Loss(i, centers[a*d:(a+1)*d])
+			c[a] += sp.Weight(i) * sp.loss(i, centers[a*d:(a+1)*d], buf)
 		}
 		parts[b] = c
 	})

@@ -50,6 +50,26 @@
 // DefaultRestarts. Stats.SwapTrials and SwapsAccepted report the work.
 // The refined cost never exceeds that of the restart it refines.
 //
+// # Float32 data
+//
+// Data stored as float32 (Dense32, or any matrix implementing
+// RawMatrixer32) takes half the memory and bandwidth. Without a scaler it
+// is clustered in place: no float64 copy of the rows is made, Lloyd runs
+// the float32 kernel (float32 products, rounding bound derived in
+// internal/nearest, near ties rechecked in float64 on the exact float64
+// values), and sums, costs and centers accumulate in float64. The result
+// is that of clustering the float64 conversion of the data,
+// mat.DenseCopyOf(data), bit for bit: the same assignments, cost and
+// centers, for every Method and any number of workers. Memory beyond the
+// caller's n·d float32: per running restart the assignments (n ints, twice
+// when ctx can end) and what the Method keeps per row (none for Lloyd; see
+// each solver), k-means++'s n float64 of nearest losses, O(k·d) of centers
+// and statistics per block, and per worker a tile of shifted float32 rows
+// (at most 32 KiB). A seeder that does not implement
+// seeding.Float32Seeder (all of package seeding's do) receives one float64
+// copy of the rows, made once per call. With a scaler the scaled space is
+// float64, as for any data.
+//
 // # Determinism
 //
 // The same data, settings and seed give bit-identical results for any

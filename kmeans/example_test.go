@@ -4,6 +4,7 @@ import (
 	"context"
 	"encoding/json"
 	"fmt"
+	"slices"
 
 	"github.com/centroidlab/centroid/kmeans"
 	"github.com/centroidlab/centroid/scale"
@@ -81,4 +82,31 @@ func ExampleModel_Nearest() {
 	// [400 0.2] -> cluster 0 (distance 0.15)
 	// [70 0.58] -> cluster 1 (distance 0.28)
 	// kmeans: dimension mismatch: row has 1 values, model has 2 features
+}
+
+// Float32 rows are clustered in place, with the result of their float64
+// conversion: the same assignments and the same cost, bit for bit. The
+// rows are six stations of the fictional Riverton Bikes scheme (hundreds
+// of trips per day, share of weekend trips in tenths): three quiet, three
+// busy; each group's cost is 1/3 (squared distances 2/36 + 5/36 + 5/36
+// from its mean), so the total is 2/3.
+func ExampleDense32() {
+	x := kmeans.NewDense32(6, 2, []float32{
+		0, 0, 0.5, 0, 0, 0.5,
+		10, 10, 10.5, 10, 10, 10.5,
+	})
+	s := &kmeans.Settings{Seed: 1}
+	r32, err := kmeans.Cluster(context.Background(), kmeans.Problem{Data: x, K: 2}, s, nil)
+	if err != nil {
+		panic(err)
+	}
+	r64, err := kmeans.Cluster(context.Background(), kmeans.Problem{Data: mat.DenseCopyOf(x), K: 2}, s, nil)
+	if err != nil {
+		panic(err)
+	}
+	fmt.Printf("%v %.12f\n", r32.Assignments, r32.Cost)
+	fmt.Println(r32.Cost == r64.Cost, slices.Equal(r32.Assignments, r64.Assignments))
+	// Output:
+	// [0 0 0 1 1 1] 0.666666666667
+	// true true
 }

@@ -12,7 +12,9 @@ import (
 // calls; Start creates the state of one restart.
 type Method interface {
 	// Start prepares one restart on sp with k clusters. It returns an error
-	// wrapping ErrMetric if the method cannot use sp.Metric.
+	// wrapping ErrMetric if the method cannot use sp.Metric. The rows are
+	// in sp.X, or in sp.X32 for float32 data (then sp.X is nil); Space.RowTo,
+	// Space.Loss and Space.Add work on either.
 	Start(sp *Space, k int) (Pass, error)
 }
 

@@ -5,6 +5,8 @@ import (
 	"math"
 
 	"github.com/centroidlab/centroid/distance"
+	"github.com/centroidlab/centroid/internal/asm/f32"
+	"github.com/centroidlab/centroid/internal/nearest"
 	"gonum.org/v1/gonum/floats"
 )
 
@@ -19,13 +21,17 @@ import (
 //
 // The zero value is unusable; create one with NewPartial. Fields are
 // exported so that a Partial can be encoded (for example with encoding/json)
-// and shipped between processes.
+// and shipped between processes. A Partial that received float32 rows (see
+// Space.Add) also holds an unexported scratch row, which is not part of its
+// statistics: compare Partials by their exported fields.
 type Partial struct {
 	K, D   int
 	Sum    []float64 // K×D row-major: Σ w·x per cluster
 	Weight []float64 // Σ w per cluster
 	Count  []int64   // rows per cluster
 	Cost   []float64 // Σ w·loss per cluster
+
+	wide []float64 // scratch: a float32 row widened (see addScaled32)
 }
 
 // NewPartial returns empty statistics for k clusters of dimension d. It
@@ -60,6 +66,26 @@ func (p *Partial) addScaled(j int, x []float64, s, w, loss float64) {
 	// sum += s·x: gonum's AxpyUnitary multiplies, then adds, element by
 	// element (no fused multiply-add), so the bits are those of the loop.
 	floats.AddScaled(p.Sum[j*p.D:(j+1)*p.D], s, x)
+	p.Weight[j] += w
+	p.Count[j]++
+	p.Cost[j] += w * loss
+}
+
+// addScaled32 is addScaled for a float32 row, with the bits of adding the
+// float64 row: in AVX-512 (f32.AddScaled: a multiply and an add per
+// element, as gonum's amd64 assembly does), or else widened into p's
+// scratch and added by the same gonum call.
+func (p *Partial) addScaled32(j int, x []float32, s, w, loss float64) {
+	if len(x) != p.D {
+		panic("kmeans: Partial.Add row length differs from D")
+	}
+	sum := p.Sum[j*p.D : (j+1)*p.D]
+	if !f32.AddScaled(sum, s, x) {
+		if len(p.wide) < p.D {
+			p.wide = make([]float64, p.D)
+		}
+		floats.AddScaled(sum, s, nearest.Widen(p.wide, x))
+	}
 	p.Weight[j] += w
 	p.Count[j]++
 	p.Cost[j] += w * loss

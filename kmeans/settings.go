@@ -15,8 +15,10 @@ import (
 // Problem says what to cluster.
 type Problem struct {
 	// Data holds one row per item and one column per feature (n×d). It is
-	// never modified or retained. *mat.Dense is used in place without a copy
-	// when no Scaler is set; other matrices are copied once.
+	// never modified or retained. *mat.Dense, and float32 data such as a
+	// Dense32 (any RawMatrixer32), are used in place without a copy when
+	// no Scaler is set; other matrices are copied once. Float32 data gives
+	// the result of its float64 conversion (see the package doc).
 	Data mat.Matrix
 	// K is the number of clusters, 1 ≤ K ≤ the number of distinct rows with
 	// positive weight.

@@ -8,6 +8,7 @@ import (
 	"slices"
 
 	"github.com/centroidlab/centroid/distance"
+	"github.com/centroidlab/centroid/internal/nearest"
 )
 
 // Random-swap refinement (P. Fränti, "Efficiency of random swap
@@ -156,7 +157,11 @@ func (s *swapper) total() float64 {
 
 // lossTo returns the loss of row i to center j.
 func (s *swapper) lossTo(i, j int) float64 {
-	return distance.SqEuclidean(s.sp.Row(i), s.c[j*s.d:(j+1)*s.d])
+	c := s.c[j*s.d : (j+1)*s.d]
+	if s.sp.X32 != nil {
+		return nearest.SqDist(s.sp.row32(i), c)
+	}
+	return distance.SqEuclidean(s.sp.Row(i), c)
 }
 
 // mark adds cluster j to the changed clusters.
@@ -309,8 +314,10 @@ func (s *swapper) restat() bool {
 		for _, i := range s.members[j] {
 			w := sp.Weight(i)
 			wt += w
-			for t, v := range sp.Row(i) {
-				sum[t] += w * v
+			if sp.X32 != nil {
+				addRow(sum, w, sp.row32(i))
+			} else {
+				addRow(sum, w, sp.Row(i))
 			}
 		}
 		if !(wt > 0) {
@@ -333,6 +340,16 @@ func (s *swapper) restat() bool {
 	return true
 }
 
+// addRow adds w·x to sum, element by element, for a row of either width
+// (one source for both, so that a float32 row adds the bits of its float64
+// conversion).
+func addRow[T nearest.Float](sum []float64, w float64, x []T) {
+	sum = sum[:len(x)]
+	for t, v := range x {
+		sum[t] += w * float64(v)
+	}
+}
+
 // trial tries moving center j to row r and keeps the result if it lowers
 // the cost. It reports whether it did.
 func (s *swapper) trial(j, r int) bool {
@@ -344,7 +361,8 @@ func (s *swapper) trial(j, r int) bool {
 	s.moved = s.moved[:0]
 	s.unmark()
 
-	copy(s.c[j*s.d:(j+1)*s.d], s.sp.Row(r))
+	c := s.c[j*s.d : (j+1)*s.d]
+	copy(c, s.sp.RowTo(c, r))
 	s.mark(j)
 	s.repartition(true)
 	ok := s.restat()

@@ -88,9 +88,10 @@ func (sp *Space) training(centers []float64, assign []int, k int, res *Result) *
 	dist := make([]float64, sp.N)
 	sp.Parallel(func(b int) {
 		lo, hi := sp.Block(b)
+		buf := make([]float64, d)
 		for i := lo; i < hi; i++ {
 			a := assign[i]
-			dist[i] = sp.Metric.Distance(sp.Row(i), centers[a*d:(a+1)*d])
+			dist[i] = sp.Metric.Distance(sp.RowTo(buf, i), centers[a*d:(a+1)*d])
 		}
 	})
 	// Group the rows of positive weight by cluster (counting sort).

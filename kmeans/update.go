@@ -67,7 +67,7 @@ func (r *run) medians(next []float64, assign []int, merged *Partial) []int {
 			buf = buf[:0]
 			for _, i := range members {
 				if w := sp.Weight(i); w > 0 {
-					buf = append(buf, quantile.Pair{Value: sp.X[i*d+c], Weight: w})
+					buf = append(buf, quantile.Pair{Value: sp.at(i, c), Weight: w})
 				}
 			}
 			quantile.Sort(buf)
@@ -86,9 +86,10 @@ func (r *run) repair(next []float64, st *Step, empty []int) {
 	contrib := r.contrib[:sp.N]
 	sp.Parallel(func(b int) {
 		lo, hi := sp.Block(b)
+		buf := make([]float64, d)
 		for i := lo; i < hi; i++ {
 			a := st.Assign[i]
-			contrib[i] = sp.Weight(i) * sp.Loss(i, st.Centers[a*d:(a+1)*d])
+			contrib[i] = sp.Weight(i) * sp.loss(i, st.Centers[a*d:(a+1)*d], buf)
 		}
 	})
 	r.distances += int64(sp.N)
@@ -99,7 +100,7 @@ func (r *run) repair(next []float64, st *Step, empty []int) {
 			if !(c > 0) || (best >= 0 && c <= contrib[best]) {
 				continue
 			}
-			if slices.ContainsFunc(taken, func(t int) bool { return slices.Equal(sp.Row(t), sp.Row(i)) }) {
+			if slices.ContainsFunc(taken, func(t int) bool { return sp.sameRow(t, i) }) {
 				continue
 			}
 			best = i
@@ -111,7 +112,7 @@ func (r *run) repair(next []float64, st *Step, empty []int) {
 		}
 		taken = append(taken, best)
 		c := next[j*d : (j+1)*d]
-		copy(c, sp.Row(best))
+		copy(c, sp.RowTo(c, best))
 		if sp.invNorm != nil {
 			for i := range c {
 				c[i] *= sp.invNorm[best]

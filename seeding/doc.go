@@ -16,6 +16,14 @@
 // several centers in one dense region; Uniform ignores where the rows are
 // and is mostly useful as a baseline.
 //
+// # Float32 data
+//
+// Every seeder here also implements Float32Seeder: SeedFloat32 reads
+// float32 rows in place (a kmeans.Dense32 without a scaler) and gives
+// exactly the centers Seed gives on their float64 conversion. Its extra
+// memory is that of Seed, plus for PlusPlus 2·d float64 per block and d
+// per candidate, and for Random and Uniform the k rows they keep.
+//
 // # Weights
 //
 // A weight acts as a multiplicity: a row of weight 3 is drawn as often as

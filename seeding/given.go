@@ -1,12 +1,14 @@
 package seeding
 
 import (
+	"context"
 	"fmt"
 	"math/rand/v2"
 
 	"github.com/centroidlab/centroid/distance"
 	"github.com/centroidlab/centroid/internal/check"
 	"github.com/centroidlab/centroid/internal/rowset"
+	"gonum.org/v1/gonum/blas/blas32"
 	"gonum.org/v1/gonum/mat"
 )
 
@@ -36,6 +38,22 @@ func (g Given) Seed(dst *mat.Dense, data *mat.Dense, weights []float64, m distan
 	if dst == nil || data == nil {
 		return fmt.Errorf("%w: nil dst or data", ErrShape)
 	}
+	_, dd := data.Dims()
+	return g.seed(dst, dd, data.RawMatrix().Data, m)
+}
+
+// SeedFloat32 implements Float32Seeder: Seed with float32 data, of which
+// only the number of columns is read.
+func (g Given) SeedFloat32(_ context.Context, dst *mat.Dense, data blas32.General, weights []float64, m distance.Metric, _ *rand.Rand) error {
+	if dst == nil {
+		return fmt.Errorf("%w: nil dst", ErrShape)
+	}
+	return g.seed(dst, data.Cols, nil, m)
+}
+
+// seed is Seed for data of dd columns whose float64 storage (nil for
+// float32 data) dst must not share.
+func (g Given) seed(dst *mat.Dense, dd int, data []float64, m distance.Metric) error {
 	k, d, err := check.Matrix(g.Centers, ErrShape)
 	if err != nil {
 		return fmt.Errorf("Given.Centers: %w", err)
@@ -44,10 +62,10 @@ func (g Given) Seed(dst *mat.Dense, data *mat.Dense, weights []float64, m distan
 	if out.Rows != k || out.Cols != d {
 		return fmt.Errorf("%w: Given has %d×%d centers, dst is %d×%d", ErrShape, k, d, out.Rows, out.Cols)
 	}
-	if _, dd := data.Dims(); dd != d {
+	if dd != d {
 		return fmt.Errorf("%w: Given centers have %d columns, data has %d", ErrShape, d, dd)
 	}
-	if overlap(out.Data, data.RawMatrix().Data) {
+	if overlap(out.Data, data) {
 		return fmt.Errorf("%w: dst shares memory with data", ErrShape)
 	}
 	c, _ := check.RowMajor(g.Centers)

@@ -7,8 +7,10 @@ import (
 	"math/rand/v2"
 
 	"github.com/centroidlab/centroid/internal/blocks"
+	"github.com/centroidlab/centroid/internal/nearest"
 
 	"github.com/centroidlab/centroid/distance"
+	"gonum.org/v1/gonum/blas/blas32"
 	"gonum.org/v1/gonum/mat"
 )
 
@@ -100,16 +102,46 @@ func (p PlusPlus) Seed(dst *mat.Dense, data *mat.Dense, weights []float64, m dis
 // blocks of every pass over the data, so it returns within about one
 // block of work (see ContextSeeder).
 func (p PlusPlus) SeedContext(ctx context.Context, dst *mat.Dense, data *mat.Dense, weights []float64, m distance.Metric, rnd *rand.Rand) error {
+	if err := p.check(); err != nil {
+		return err
+	}
+	in, err := checkInput(dst, data, weights, m, rnd)
+	if err != nil {
+		return err
+	}
+	return p.seed(ctx, in, rnd)
+}
+
+// SeedFloat32 implements Float32Seeder: SeedContext on float32 data, read
+// in place. Rows are widened (exactly) to float64 one at a time as a pass
+// reads them, into per-block buffers, and the losses are those of the
+// float64 rows bit for bit, so the centers are those of SeedContext on the
+// float64 conversion of data. Extra memory: that of SeedContext plus
+// 2·d float64 per block and d per candidate.
+func (p PlusPlus) SeedFloat32(ctx context.Context, dst *mat.Dense, data blas32.General, weights []float64, m distance.Metric, rnd *rand.Rand) error {
+	if err := p.check(); err != nil {
+		return err
+	}
+	in, err := checkInput32(dst, data, weights, m, rnd)
+	if err != nil {
+		return err
+	}
+	return p.seed(ctx, in, rnd)
+}
+
+// check validates the options.
+func (p PlusPlus) check() error {
 	if p.Candidates < 0 || p.Candidates > MaxCandidates {
 		return fmt.Errorf("%w: PlusPlus.Candidates = %d, want 0 ≤ Candidates ≤ %d", ErrParameter, p.Candidates, MaxCandidates)
 	}
 	if p.Workers < 0 {
 		return fmt.Errorf("%w: PlusPlus.Workers = %d, want ≥ 0", ErrParameter, p.Workers)
 	}
-	in, err := checkInput(dst, data, weights, m, rnd)
-	if err != nil {
-		return err
-	}
+	return nil
+}
+
+// seed runs k-means++ on the checked input.
+func (p PlusPlus) seed(ctx context.Context, in *input, rnd *rand.Rand) error {
 	L := p.candidates(in.k)
 	st := newPlusState(in, L, max(1, p.Workers))
 	st.stop = ctx.Done()
@@ -124,7 +156,7 @@ func (p PlusPlus) SeedContext(ctx context.Context, dst *mat.Dense, data *mat.Den
 		return fmt.Errorf("%w: the sum of the weights overflows", ErrWeights)
 	}
 	chosen[0] = st.draw(rnd, weightSum)
-	if !st.update(in.row(chosen[0]), true) {
+	if !st.update(in.rowTo(st.center64, chosen[0]), true) {
 		return canceled(ctx)
 	}
 	for len(chosen) < in.k {
@@ -149,7 +181,7 @@ func (p PlusPlus) SeedContext(ctx context.Context, dst *mat.Dense, data *mat.Den
 			}
 			best = idx[e]
 		}
-		if !st.update(in.row(best), false) {
+		if !st.update(in.rowTo(st.center64, best), false) {
 			return canceled(ctx)
 		}
 		chosen = append(chosen, best)
@@ -194,6 +226,12 @@ type plusState struct {
 	center  []float64   // the center update adds
 	first   bool        // update adds the first center
 
+	// Float32 data: the rows a block reads, widened (2·d per block), the
+	// widened candidates (d each) and the center being added.
+	rowBufs  []float64
+	candBufs [][]float64
+	center64 []float64
+
 	stop <-chan struct{} // closed when the caller's context ends
 
 	// Bound once so that passes do not allocate.
@@ -217,7 +255,25 @@ func newPlusState(in *input, L, workers int) *plusState {
 		st.pots = make([]float64, bl.Count()*L)
 		st.cands = make([][]float64, 0, L)
 	}
+	if in.x32 != nil {
+		st.rowBufs = make([]float64, 2*in.d*bl.Count())
+		st.center64 = make([]float64, in.d)
+		st.candBufs = make([][]float64, L)
+		for c := range st.candBufs {
+			st.candBufs[c] = make([]float64, in.d)
+		}
+	}
 	return st
+}
+
+// rowIn returns row i as block b reads it: a view of float64 data, or the
+// float32 row widened into the block's buffer slot (0 or 1).
+func (st *plusState) rowIn(b, slot, i int) []float64 {
+	if st.x32 == nil {
+		return st.row(i)
+	}
+	o := (2*b + slot) * st.d
+	return st.rowTo(st.rowBufs[o:o+st.d], i)
 }
 
 // term returns w_i·near[i], the unnormalized probability of drawing row i.
@@ -290,6 +346,17 @@ func (st *plusState) update(c []float64, first bool) bool {
 
 // updateBlock does update's work on block b.
 func (st *plusState) updateBlock(b int) {
+	if st.x32 != nil {
+		updateRows(st, st.x32, b)
+		return
+	}
+	updateRows(st, st.x, b)
+}
+
+// updateRows is updateBlock on the rows x (the data's backing slice, of
+// either width): the same losses, bit for bit, for float32 rows as for
+// their float64 conversion.
+func updateRows[T nearest.Float](st *plusState, x []T, b int) {
 	c, first := st.center, st.first
 	var s float64
 	lo, hi := st.bl[b], st.bl[b+1]
@@ -299,17 +366,27 @@ func (st *plusState) updateBlock(b int) {
 			st.near[i] = 0
 			continue
 		}
-		if st.euclid && i+1 < hi && st.weight(i+1) != 0 {
-			// Two rows at once; (c−x)² has the bits of (x−c)².
-			l0, l1 := sqEuclidean2(c, st.row(i), st.row(i+1))
-			s += w * st.lower(i, l0, first)
-			i++
-			s += st.weight(i) * st.lower(i, l1, first)
+		if st.euclid {
+			if i+1 < hi && st.weight(i+1) != 0 {
+				// Two rows at once; (c−x)² has the bits of (x−c)².
+				l0, l1 := sqEuclidean2(c, rowOf(x, st.stride, st.d, i), rowOf(x, st.stride, st.d, i+1))
+				s += w * st.lower(i, l0, first)
+				i++
+				s += st.weight(i) * st.lower(i, l1, first)
+				continue
+			}
+			s += w * st.lower(i, nearest.SqDist(rowOf(x, st.stride, st.d, i), c), first)
 			continue
 		}
-		s += w * st.lower(i, st.loss(st.row(i), c), first)
+		s += w * st.lower(i, st.loss(st.rowIn(b, 0, i), c), first)
 	}
 	st.sums[b] = s
+}
+
+// rowOf returns row i of x with the given stride and d columns.
+func rowOf[T nearest.Float](x []T, stride, d, i int) []T {
+	o := i * stride
+	return x[o : o+d : o+d]
 }
 
 // lower sets near[i] to l, or to min(near[i], l) unless first, and returns
@@ -328,7 +405,11 @@ func (st *plusState) lower(i int, l float64, first bool) float64 {
 // sums unchanged. ok is false if the caller's context ended first.
 func (st *plusState) evaluate(idx []int) (best int, ok bool) {
 	st.cands = st.cands[:0]
-	for _, i := range idx {
+	for c, i := range idx {
+		if st.x32 != nil {
+			st.cands = append(st.cands, st.rowTo(st.candBufs[c], i))
+			continue
+		}
 		st.cands = append(st.cands, st.row(i))
 	}
 	L := len(st.cands)
@@ -351,6 +432,15 @@ func (st *plusState) evaluate(idx []int) (best int, ok bool) {
 // evalBlock sets pots[b·potLen+c] to Σ w_i·min(near[i], loss(x_i, c)) over
 // block b for every candidate c.
 func (st *plusState) evalBlock(b int) {
+	if st.x32 != nil {
+		evalRows(st, st.x32, b)
+		return
+	}
+	evalRows(st, st.x, b)
+}
+
+// evalRows is evalBlock on the rows x (of either width).
+func evalRows[T nearest.Float](st *plusState, x []T, b int) {
 	L := len(st.cands)
 	// Sum in a local array so that blocks on other goroutines never share
 	// a cache line with this one while it runs.
@@ -366,19 +456,24 @@ func (st *plusState) evalBlock(b int) {
 		if w == 0 {
 			continue
 		}
-		x, nr := st.row(i), st.near[i]
-		c := 0
+		nr := st.near[i]
 		if st.euclid {
+			xi := rowOf(x, st.stride, st.d, i)
+			c := 0
 			for ; c+1 < L; c += 2 {
-				l0, l1 := sqEuclidean2(x, st.cands[c], st.cands[c+1])
+				l0, l1 := sqEuclidean2(xi, st.cands[c], st.cands[c+1])
 				l0, l1 = min2(nr, l0), min2(nr, l1)
 				pot[c] += w * l0
 				pot[c+1] += w * l1
 			}
+			for ; c < L; c++ {
+				pot[c] += w * min2(nr, nearest.SqDist(xi, st.cands[c]))
+			}
+			continue
 		}
-		for ; c < L; c++ {
-			l := min2(nr, st.loss(x, st.cands[c]))
-			pot[c] += w * l
+		xw := st.rowIn(b, 0, i)
+		for c := range L {
+			pot[c] += w * min2(nr, st.loss(xw, st.cands[c]))
 		}
 	}
 	copy(st.pots[b*st.potLen:], pot)
@@ -394,22 +489,24 @@ func min2(near, l float64) float64 {
 
 // sqEuclidean2 returns distance.SqEuclidean(x, a) and SqEuclidean(x, b),
 // bit for bit (same pairs of running sums), computed together so that the
-// four sums can advance in parallel. a and b must have len(x) elements.
-func sqEuclidean2(x, a, b []float64) (float64, float64) {
+// four sums can advance in parallel, for float64 values of either width
+// (float32 values are widened exactly). a and b must have len(x)
+// elements.
+func sqEuclidean2[X, Y nearest.Float](x []X, a, b []Y) (float64, float64) {
 	a, b = a[:len(x)], b[:len(x)]
 	var a0, a1, b0, b1 float64
 	i := 0
 	for ; i+1 < len(x); i += 2 {
-		x0, x1 := x[i], x[i+1]
-		d0, d1 := x0-a[i], x1-a[i+1]
-		e0, e1 := x0-b[i], x1-b[i+1]
+		x0, x1 := float64(x[i]), float64(x[i+1])
+		d0, d1 := x0-float64(a[i]), x1-float64(a[i+1])
+		e0, e1 := x0-float64(b[i]), x1-float64(b[i+1])
 		a0 += d0 * d0
 		a1 += d1 * d1
 		b0 += e0 * e0
 		b1 += e1 * e1
 	}
 	if i < len(x) {
-		d, e := x[i]-a[i], x[i]-b[i]
+		d, e := float64(x[i])-float64(a[i]), float64(x[i])-float64(b[i])
 		a0 += d * d
 		b0 += e * e
 	}

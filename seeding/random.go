@@ -1,12 +1,14 @@
 package seeding
 
 import (
+	"context"
 	"fmt"
 	"math/rand/v2"
 
 	"github.com/centroidlab/centroid/internal/rowset"
 
 	"github.com/centroidlab/centroid/distance"
+	"gonum.org/v1/gonum/blas/blas32"
 	"gonum.org/v1/gonum/mat"
 )
 
@@ -35,19 +37,25 @@ const maxRejections = 16
 type Random struct{}
 
 // Seed implements Seeder.
-func (Random) Seed(dst *mat.Dense, data *mat.Dense, weights []float64, m distance.Metric, rnd *rand.Rand) error {
+func (r Random) Seed(dst *mat.Dense, data *mat.Dense, weights []float64, m distance.Metric, rnd *rand.Rand) error {
 	in, err := checkInput(dst, data, weights, m, rnd)
 	if err != nil {
 		return err
 	}
+	return r.seed(in, rnd)
+}
+
+func (Random) seed(in *input, rnd *rand.Rand) error {
 	cum := make([]float64, in.n)
 	in.cumWeights(cum)
 	chosen := make([]int, 0, in.k)
 	set := rowset.New(in.k)
+	buf := make([]float64, in.d)
 	misses := 0
 	for len(chosen) < in.k {
 		i := pick(cum, rnd)
-		if set.Add(in.row(i)) {
+		if r := in.rowTo(buf, i); !set.Has(r) {
+			set.Add(in.rowKept(i))
 			chosen = append(chosen, i)
 			misses = 0
 			continue
@@ -69,8 +77,9 @@ func (Random) Seed(dst *mat.Dense, data *mat.Dense, weights []float64, m distanc
 // value is not in set and reports whether any such row has positive weight.
 func (in *input) cumUnchosen(cum []float64, set *rowset.Set) bool {
 	var s float64
+	buf := make([]float64, in.d)
 	for i := range cum {
-		if w := in.weight(i); w > 0 && !set.Has(in.row(i)) {
+		if w := in.weight(i); w > 0 && !set.Has(in.rowTo(buf, i)) {
 			s += w
 		}
 		cum[i] = s
@@ -78,8 +87,23 @@ func (in *input) cumUnchosen(cum []float64, set *rowset.Set) bool {
 	return s > 0
 }
 
+// SeedFloat32 implements Float32Seeder: Seed on float32 data, read in
+// place (the k rows chosen are widened into new slices); ctx is not
+// checked.
+func (r Random) SeedFloat32(_ context.Context, dst *mat.Dense, data blas32.General, weights []float64, m distance.Metric, rnd *rand.Rand) error {
+	in, err := checkInput32(dst, data, weights, m, rnd)
+	if err != nil {
+		return err
+	}
+	return r.seed(in, rnd)
+}
+
 var (
-	_ Seeder = Random{}
-	_ Seeder = Uniform{}
-	_ Seeder = PlusPlus{}
+	_ Float32Seeder = Random{}
+	_ Float32Seeder = Uniform{}
+	_ Float32Seeder = PlusPlus{}
+	_ Float32Seeder = Given{}
+	_ Seeder        = Random{}
+	_ Seeder        = Uniform{}
+	_ Seeder        = PlusPlus{}
 )

@@ -5,6 +5,7 @@ import (
 	"math/rand/v2"
 
 	"github.com/centroidlab/centroid/distance"
+	"gonum.org/v1/gonum/blas/blas32"
 	"gonum.org/v1/gonum/mat"
 )
 
@@ -46,4 +47,19 @@ type Concurrent interface {
 type ContextSeeder interface {
 	Seeder
 	SeedContext(ctx context.Context, dst *mat.Dense, data *mat.Dense, weights []float64, m distance.Metric, rnd *rand.Rand) error
+}
+
+// Float32Seeder is implemented by seeders that read float32 rows in place.
+// kmeans.Cluster calls SeedFloat32 when the clustering space is float32
+// (a kmeans.Dense32 without a scaler), so that seeding makes no float64
+// copy of the data; a seeder without it receives a float64 copy of the
+// rows, made once per Cluster call. data holds n = data.Rows rows of
+// data.Cols values, row i at data.Data[i·data.Stride:]; it is never
+// modified. SeedFloat32 gives exactly the centers that Seed gives on the
+// float64 conversion of data (every float32 is exactly a float64) from the
+// same rnd state, and stops early when ctx ends as SeedContext does
+// (seeders that do not check ctx say so).
+type Float32Seeder interface {
+	Seeder
+	SeedFloat32(ctx context.Context, dst *mat.Dense, data blas32.General, weights []float64, m distance.Metric, rnd *rand.Rand) error
 }

@@ -1,6 +1,7 @@
 package seeding
 
 import (
+	"context"
 	"fmt"
 	"math"
 	"math/rand/v2"
@@ -8,6 +9,7 @@ import (
 	"github.com/centroidlab/centroid/internal/rowset"
 
 	"github.com/centroidlab/centroid/distance"
+	"gonum.org/v1/gonum/blas/blas32"
 	"gonum.org/v1/gonum/mat"
 )
 
@@ -34,11 +36,25 @@ const maxRedraws = 1000
 type Uniform struct{}
 
 // Seed implements Seeder.
-func (Uniform) Seed(dst *mat.Dense, data *mat.Dense, weights []float64, m distance.Metric, rnd *rand.Rand) error {
+func (u Uniform) Seed(dst *mat.Dense, data *mat.Dense, weights []float64, m distance.Metric, rnd *rand.Rand) error {
 	in, err := checkInput(dst, data, weights, m, rnd)
 	if err != nil {
 		return err
 	}
+	return u.seed(in, rnd)
+}
+
+// SeedFloat32 implements Float32Seeder: Seed on float32 data, read in
+// place; ctx is not checked.
+func (u Uniform) SeedFloat32(_ context.Context, dst *mat.Dense, data blas32.General, weights []float64, m distance.Metric, rnd *rand.Rand) error {
+	in, err := checkInput32(dst, data, weights, m, rnd)
+	if err != nil {
+		return err
+	}
+	return u.seed(in, rnd)
+}
+
+func (Uniform) seed(in *input, rnd *rand.Rand) error {
 	if got := in.distinct(); got < in.k {
 		return fmt.Errorf("%w: k = %d but data has only %d distinct rows with positive weight", ErrK, in.k, got)
 	}
@@ -68,9 +84,10 @@ func (Uniform) Seed(dst *mat.Dense, data *mat.Dense, weights []float64, m distan
 // distinct counts the distinct rows with positive weight, stopping at k.
 func (in *input) distinct() int {
 	set := rowset.New(in.k)
+	buf := make([]float64, in.d)
 	for i := 0; i < in.n && set.Len() < in.k; i++ {
-		if in.weight(i) > 0 {
-			set.Add(in.row(i))
+		if in.weight(i) > 0 && !set.Has(in.rowTo(buf, i)) {
+			set.Add(in.rowKept(i))
 		}
 	}
 	return set.Len()
@@ -85,11 +102,12 @@ func (in *input) box() (lo, hi []float64) {
 		lo[col] = math.Inf(1)
 		hi[col] = math.Inf(-1)
 	}
+	buf := make([]float64, in.d)
 	for i := range in.n {
 		if in.weight(i) == 0 {
 			continue
 		}
-		for col, v := range in.row(i) {
+		for col, v := range in.rowTo(buf, i) {
 			lo[col] = min(lo[col], v)
 			hi[col] = max(hi[col], v)
 		}

@@ -46,11 +46,9 @@ type Centers struct {
 // the order of the sums, so every kernel (pure Go, AVX2, AVX-512) and
 // every register tiling is covered by the same T.
 //
-// A float32 kernel fits the same argument: rounding x' and c' to float32
-// moves D' by at most 2·u₃₂·R²(1+ε) with u₃₂ = 2⁻²⁴, and every dot product,
-// norm and subtraction done in float32 contributes as above with u₃₂ in
-// place of u; its slack is therefore T₃₂ = (2d+18)·u₃₂·2(r²+ρ_max²) plus
-// the float64 terms, which a float32 Rounding.Slack will return.
+// The float32 kernel fits the same argument with u₃₂ = 2⁻²⁴ in place of u
+// for the rounding of x', c' and every float32 operation: see
+// Centers32.Pack and Rounding.Slack32.
 func (p *Centers) Pack(c []float64, k, d int) {
 	if k < 1 || d < 1 || len(c) < k*d {
 		panic("nearest: Pack needs k ≥ 1, d ≥ 1 and len(c) ≥ k·d")

@@ -15,7 +15,13 @@
 // (Centers). This is the arithmetic of a matrix product of the rows with the
 // transposed centers, with the argmin fused into it: no n×k matrix is ever
 // written. The kernel, f64.Best2 in internal/asm/f64, runs in assembly
-// where the processor allows it.
+// where the processor allows it. Searcher32 does the same for float32
+// rows with f32.Best2 (internal/asm/f32: float32 products and sums) and
+// its own bound (Centers32, Rounding.Slack32); a row whose float32 answer
+// is not certain is measured by the float64 one-row kernel and, if still
+// close, directly, so its answers are those of Searcher on the rows'
+// float64 values. SqDist and AbsDist give the distance package's bits for
+// rows of either width.
 //
 // The expansion cancels when rows and centers lie far from the origin.
 // Centers therefore shifts rows and centers by a common vector (the mean of

@@ -37,7 +37,8 @@ const tiny = 0x1p-500
 // implies that the computed losses (distances or their squares) compare
 // f̂_j > f̂_a: f̂_j ≥ lo²(1−γ_{d+2}) > hi²(1+ε)²(1−γ_{d+2}) ≥ hi²(1+γ_{d+2}) ≥ f̂_a.
 //
-// Slack bounds the expansion ‖c‖² − 2x·c of Searcher: see Centers.
+// Slack bounds the expansion ‖c‖² − 2x·c of Searcher (see Centers),
+// Slack32 that of Searcher32 (see Centers32).
 type Rounding struct {
 	d   int
 	eps float64
@@ -76,4 +77,25 @@ func (r Rounding) Slack(rowNorm2, maxNorm2 float64) float64 {
 		return math.Inf(1)
 	}
 	return t
+}
+
+// unit32 is the unit roundoff of float32, 2⁻²⁴.
+const unit32 = 0x1p-24
+
+// maxDim32 is the largest dimension the float32 bound covers.
+const maxDim32 = 1 << 16
+
+// Slack32 returns the bound T of Centers32 for a row whose shifted squared
+// norm, computed in float32, is rowNorm2, and centers of squared norm at
+// most maxNorm2: every value the float32 kernel computes, plus the row's
+// exact squared norm, is within T of the directly computed squared
+// distance (distance.SqEuclidean of the float64 values). It is +Inf when
+// the bound does not hold (d > 2¹⁶, or rowNorm2 + maxNorm2 beyond 2¹⁰⁰ or
+// not finite, where float32 values could overflow).
+func (r Rounding) Slack32(rowNorm2, maxNorm2 float64) float64 {
+	s := rowNorm2 + maxNorm2
+	if r.d > maxDim32 || !(s <= 0x1p100) {
+		return math.Inf(1)
+	}
+	return 17*float64(r.d+8)/16*unit32*s + 0x1p-100
 }

@@ -27,7 +27,7 @@
 // stubs_amd64.go declares the assembly versions and picks one at start-up
 // from the processor's features. Other architectures (arm64 included) run
 // the pure-Go code; an arm64 kernel would add stubs_arm64.go the same way.
-// A float32 package (internal/asm/f32) will sit beside this one with the
+// The float32 package internal/asm/f32 sits beside this one with the
 // same layout and names.
 //
 // # Invariants

@@ -10,12 +10,23 @@ import (
 )
 
 func main() {
-	out := flag.String("out", "../f64", "directory of the generated files")
+	out := flag.String("out", "../f64", "directory of the generated files: ../f64 or ../f32 (the package is its base name)")
 	flag.Parse()
-	files := map[string]func(*asm){
-		"best2_avx512_amd64.s": avx512,
-		"best2_avx2_amd64.s":   avx2,
-		"cpu_amd64.s":          cpu,
+	pkgs := map[string]map[string]func(*asm){
+		"f64": {
+			"best2_avx512_amd64.s": avx512,
+			"best2_avx2_amd64.s":   avx2,
+			"cpu_amd64.s":          cpu,
+		},
+		"f32": {
+			"best2_avx512_amd64.s": avx512F32,
+			"best2_avx2_amd64.s":   avx2F32,
+			"cpu_amd64.s":          cpu,
+		},
+	}
+	files, ok := pkgs[filepath.Base(filepath.Clean(*out))]
+	if !ok {
+		log.Fatalf("gen: -out %s: the directory must be named f64 or f32", *out)
 	}
 	for name, gen := range files {
 		a := &asm{}

@@ -7,6 +7,13 @@
 // (a 20-pass run minus a 10-pass run from one fixed start, over 10) on 1
 // and 2 workers, its rate as a share of the peak, and whole Cluster calls.
 //
+// For the -f32 shapes it compares float32 rows (kmeans.Dense32Of of the
+// same blobs) with their float64 conversion: one Lloyd pass on one worker
+// (as above) and whole Cluster calls (automatic choice, k-means++) on 1
+// and 2 workers, both widths measured alternately in the same run and
+// required to give the same cost and passes (-f32-only prints just this
+// table).
+//
 // For every shared dataset and every cell of the grid (n rows, d
 // dimensions, k clusters, on seeded blobs from internal/synth) it runs
 // kmeans.Cluster once per solver with one restart, seed 1 and the same pass

@@ -14,6 +14,7 @@ import (
 	"time"
 
 	"github.com/centroidlab/centroid/distance"
+	"github.com/centroidlab/centroid/internal/asm/f32"
 	"github.com/centroidlab/centroid/internal/asm/f64"
 	"github.com/centroidlab/centroid/internal/data/reference"
 	"github.com/centroidlab/centroid/internal/data/synth"
@@ -41,6 +42,9 @@ func main() {
 		maxCost = flag.Float64("max-gflop", 2000, "skip grid cells whose Lloyd run would exceed this many GFLOP (2·n·d·k·iters)")
 		pass    = flag.String("pass", "16:64,32:64,64:256", "d:k shapes of the Lloyd pass table (empty: none)")
 		passN   = flag.Int("pass-n", 1e5, "rows of the Lloyd pass table")
+		f32s    = flag.String("f32", "16:64,16:256,32:64,32:256,64:64,64:256", "d:k shapes of the float32-vs-float64 table (empty: none)")
+		f32N    = flag.Int("f32-n", 1e5, "rows of the float32-vs-float64 table")
+		only32  = flag.Bool("f32-only", false, "print only the float32-vs-float64 table")
 	)
 	flag.Parse()
 	cfg := config{iters: *iters, reps: max(1, *reps), rows: *rows, naiveRows: *naive, workersN: parseInts(*workers)[0], maxGFLOP: *maxCost,
@@ -49,6 +53,12 @@ func main() {
 	fmt.Printf("flags: %s\n\n", strings.Join(os.Args[1:], " "))
 	cfg.peak = peakRate()
 	fmt.Printf("Kernel: %s. One-thread peak (f64.PeakLoop, 12 chains of vector fused multiply-adds): %.1f GFLOP/s.\n\n", f64.Kernel(), cfg.peak/1e9)
+	if *f32s != "" {
+		cfg.float32(*f32N, parseShapes(*f32s))
+	}
+	if *only32 {
+		return
+	}
 	if *pass != "" {
 		cfg.passes(*passN, parseShapes(*pass))
 	}
@@ -421,4 +431,80 @@ func cpuName() string {
 		}
 	}
 	return runtime.GOARCH
+}
+
+// float32 prints the float32-vs-float64 table: for each d:k shape, n rows
+// of the 50-blob mixture rounded to float32 (kmeans.Dense32Of) and their
+// float64 conversion (mat.DenseCopyOf, the same values), one Lloyd pass on
+// one worker (a 20-pass run minus a 10-pass run from one fixed start, over
+// 10) and whole Cluster calls (nil Method, k-means++ seeding, one restart,
+// at most -iters passes) on 1 and 2 workers. The two widths are measured
+// alternately, each the fastest of -reps, and must give the same cost and
+// passes (the command stops otherwise).
+func (c config) float32(n int, shapes [][2]int) {
+	fmt.Printf("## Float32 rows vs float64 rows, n=%s (f32 kernel: %s)\n\n", exp(n), f32.Kernel())
+	fmt.Println("Same values in both widths (float32 data and its float64 conversion); ratio = float64 time ÷ float32 time, both measured alternately in this run.")
+	fmt.Println()
+	fmt.Println("| d | k | pass ms f64 / f32 (1W) | pass ratio | GFLOP/s f32 1W (÷ f32 peak) | Cluster ms f64 / f32 1W | ratio 1W | Cluster ms f64 / f32 2W | ratio 2W | passes |\n|---|---|---|---|---|---|---|---|---|---|")
+	peak32 := peakRate32()
+	for _, sh := range shapes {
+		d, k := sh[0], sh[1]
+		x32 := kmeans.Dense32Of(synth.Blobs(n, d, synth.GridClusters, 1))
+		x64 := mat.DenseCopyOf(x32)
+		start := mat.NewDense(k, d, nil)
+		for j := range k {
+			start.SetRow(j, x64.RawRowView(j*(n/k)))
+		}
+		call := func(x mat.Matrix, seeder seeding.Seeder, passes, workers int, m kmeans.Method) (float64, *kmeans.Result) {
+			t0 := time.Now()
+			res, err := kmeans.Cluster(context.Background(), kmeans.Problem{Data: x, K: k, Seeder: seeder},
+				&kmeans.Settings{Restarts: 1, Seed: 1, MaxIterations: passes, Workers: workers, SwapTrials: -1}, m)
+			secs := time.Since(t0).Seconds()
+			if err != nil {
+				fmt.Fprintln(os.Stderr, "benchreport:", err)
+				os.Exit(1)
+			}
+			return secs, res
+		}
+		// best runs f64 and f32 alternately reps times and returns the
+		// fastest of each; the results must agree.
+		best := func(seeder seeding.Seeder, passes, workers int, m kmeans.Method) (t64, t32 float64, iters int) {
+			t64, t32 = math.Inf(1), math.Inf(1)
+			for range c.reps {
+				a, r64 := call(x64, seeder, passes, workers, m)
+				b, r32 := call(x32, seeder, passes, workers, m)
+				if r64.Cost != r32.Cost || r64.Iterations != r32.Iterations {
+					fmt.Fprintf(os.Stderr, "benchreport: float32 differs from float64 at d=%d k=%d\n", d, k)
+					os.Exit(1)
+				}
+				t64, t32, iters = math.Min(t64, a), math.Min(t32, b), r64.Iterations
+			}
+			return t64, t32, iters
+		}
+		given := seeding.Given{Centers: start}
+		a20, b20, _ := best(given, 20, 1, kmeans.Lloyd{})
+		a10, b10, _ := best(given, 10, 1, kmeans.Lloyd{})
+		p64, p32 := math.Max(a20-a10, 1e-9)/10, math.Max(b20-b10, 1e-9)/10
+		rate := 2 * float64(n) * float64(d) * float64(k) / p32
+		w1a, w1b, iters := best(nil, c.iters, 1, nil)
+		w2a, w2b, _ := best(nil, c.iters, 2, nil)
+		fmt.Printf("| %d | %d | %.2f / %.2f | %.2f× | %.1f (%.0f%%) | %s / %s | %.2f× | %s / %s | %.2f× | %d |\n", d, k, p64*1e3, p32*1e3, p64/p32,
+			rate/1e9, 100*rate/peak32, ms(w1a), ms(w1b), w1a/w1b, ms(w2a), ms(w2b), w2a/w2b, iters)
+		runtime.GC()
+	}
+	fmt.Println()
+}
+
+// peakRate32 returns the one-thread rate of f32.PeakLoop in flop/s (the
+// fastest of five runs).
+func peakRate32() float64 {
+	prev := runtime.GOMAXPROCS(1)
+	defer runtime.GOMAXPROCS(prev)
+	best := 0.0
+	for range 5 {
+		start := time.Now()
+		flops := f32.PeakLoop(1 << 22)
+		best = math.Max(best, flops/time.Since(start).Seconds())
+	}
+	return best
 }

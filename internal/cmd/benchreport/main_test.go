@@ -22,13 +22,14 @@ func TestGridSmoke(t *testing.T) {
 		workersD: set([]int{4}), workersK: set([]int{8})}
 	cfg.peak = peakRate()
 	cfg.passes(2000, [][2]int{{4, 8}})
+	cfg.float32(2000, [][2]int{{4, 8}})
 	cfg.grid([]int{2000}, []int{4}, []int{8})
 	os.Stdout = stdout
 	require.NoError(t, out.Close())
 	b, err := os.ReadFile(out.Name())
 	require.NoError(t, err)
 	report := string(b)
-	for _, want := range []string{"## Lloyd pass and whole Cluster", "| 4 | 8 | ", "## Grid: seeded blobs", "## Assignment kernel vs gonum Dgemm", "## Workers:", "| 4 | 8 |"} {
+	for _, want := range []string{"## Lloyd pass and whole Cluster", "| 4 | 8 | ", "## Grid: seeded blobs", "## Assignment kernel vs gonum Dgemm", "## Workers:", "| 4 | 8 |", "## Float32 rows vs float64 rows"} {
 		require.Contains(t, report, want)
 	}
 	require.Equal(t, 2, strings.Count(report, "| n="+exp(2000)+" d=4 k=8 |"), report)
