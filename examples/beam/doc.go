@@ -14,18 +14,18 @@
 //
 // Flags of its own:
 //
-//	-in GLOB        CSV files with a header line (any Beam filesystem)
-//	-columns A,B    columns to cluster on (default: every column)
-//	-k K            number of clusters
-//	-passes P       largest number of Lloyd passes (0: 300 driven; unrolled needs 1..100)
-//	-seed S         seed of the k-means‖ draws
-//	-metric M       euclidean (default) or cosine
-//	-rounds R       k-means‖ sampling rounds (0: 5)
-//	-iterate I      driven (one pipeline per pass, default) or unrolled (one pipeline)
-//	-model PATH     where to write the model document
-//	-labels PATH    where to write the labelled rows (optional)
-//	-label-by COL   a column to name the labelled rows by (default: the row index)
-//	-skip           skip bad rows instead of failing
-//	-block-rows N   rows per pipeline element (default 1000)
-//	-workdir DIR    where pipelines leave their state (default: a temporary directory)
+//	-in GLOB          CSV files with a header line (any Beam filesystem)
+//	-columns A,B      columns to cluster on (default: every column)
+//	-k K              number of clusters
+//	-passes P         largest number of Lloyd passes (0: 300 driven; unrolled needs 1..100)
+//	-seed S           seed of the k-means‖ draws
+//	-metric M         euclidean (default) or cosine
+//	-rounds R         k-means‖ sampling rounds (0: 5)
+//	-iterate I        driven (one pipeline per pass, default) or unrolled (one pipeline)
+//	-model PATH       where to write the model document
+//	-labels-out PATH  where to write the labelled rows (optional)
+//	-label-by COL     a column to name the labelled rows by (default: the row index)
+//	-skip             skip bad rows instead of failing
+//	-block-rows N     rows per pipeline element (default 1000)
+//	-workdir DIR      where pipelines leave their state (default: a temporary directory)
 package main

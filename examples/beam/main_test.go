@@ -58,7 +58,7 @@ func TestRunS1(t *testing.T) {
 	dir := t.TempDir()
 	model, labels := filepath.Join(dir, "model.json"), filepath.Join(dir, "labels.csv")
 	var out bytes.Buffer
-	o := parse(t, "-in", in, "-columns", "x,y", "-k", "15", "-seed", "3", "-model", model, "-labels", labels, "-label-by", "label")
+	o := parse(t, "-in", in, "-columns", "x,y", "-k", "15", "-seed", "3", "-model", model, "-labels-out", labels, "-label-by", "label")
 	require.NoError(t, run(context.Background(), o, &out))
 	assert.Contains(t, out.String(), "5000 rows from 1 file(s)")
 

@@ -40,7 +40,7 @@ func (o *options) register(fs *flag.FlagSet) {
 	fs.IntVar(&o.rounds, "rounds", 0, "k-means‖ sampling rounds (0: 5)")
 	fs.StringVar(&o.iterate, "iterate", "driven", "driven (one pipeline per pass) or unrolled (one pipeline)")
 	fs.StringVar(&o.model, "model", "", "`path` of the model document to write")
-	fs.StringVar(&o.labels, "labels", "", "`path` of a CSV file for the labelled rows (optional)")
+	fs.StringVar(&o.labels, "labels-out", "", "`path` of a CSV file for the labelled rows (optional)")
 	fs.StringVar(&o.id, "label-by", "", "`column` naming the labelled rows (default: the row index)")
 	fs.BoolVar(&o.skip, "skip", false, "skip bad rows instead of failing")
 	fs.IntVar(&o.blockRows, "block-rows", kbeam.DefaultBlockRows, "rows per pipeline element")

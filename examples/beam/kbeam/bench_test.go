@@ -1,8 +1,12 @@
 package kbeam
 
 import (
+	"bufio"
 	"context"
 	"fmt"
+	"os"
+	"path/filepath"
+	"strconv"
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
@@ -60,3 +64,51 @@ func BenchmarkBlockRows(b *testing.B) {
 		})
 	}
 }
+
+// benchmarkCSV times the two iterations on the generated rows read from
+// a CSV file, so that driven pays for parsing the input in every pass.
+func benchmarkCSV(b *testing.B, n, d, k int, it Iteration) {
+	g := &genFn{N: n, D: d, K: k, Rows: DefaultBlockRows, Seed: 11}
+	path := filepath.Join(b.TempDir(), "rows.csv")
+	f, err := os.Create(path)
+	if err != nil {
+		b.Fatal(err)
+	}
+	w := bufio.NewWriter(f)
+	for j := range d {
+		if j > 0 {
+			w.WriteByte(',')
+		}
+		fmt.Fprintf(w, "c%d", j)
+	}
+	w.WriteByte('\n')
+	x := g.matrix()
+	for i := range n {
+		for j, v := range x.RawRowView(i) {
+			if j > 0 {
+				w.WriteByte(',')
+			}
+			w.WriteString(strconv.FormatFloat(v, 'g', -1, 64))
+		}
+		w.WriteByte('\n')
+	}
+	if err := w.Flush(); err != nil {
+		b.Fatal(err)
+	}
+	f.Close()
+	in, err := OpenCSV(context.Background(), path, nil)
+	if err != nil {
+		b.Fatal(err)
+	}
+	c := (&genFn{N: k, D: d, K: k, Rows: k, Seed: 12}).matrix().RawMatrix().Data
+	b.ResetTimer()
+	for range b.N {
+		res, err := Cluster(context.Background(), Problem{Rows: in.Source(), D: d, K: k, Centers: c}, &Settings{MaxPasses: benchPasses, Iteration: it})
+		if err != nil || res.Passes != benchPasses {
+			b.Fatal(err, res.Passes)
+		}
+	}
+}
+
+func BenchmarkCSVDriven1e6x16k64(b *testing.B)   { benchmarkCSV(b, 1e6, 16, 64, Driven) }
+func BenchmarkCSVUnrolled1e6x16k64(b *testing.B) { benchmarkCSV(b, 1e6, 16, 64, Unrolled) }

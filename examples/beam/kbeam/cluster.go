@@ -13,6 +13,7 @@ import (
 
 	"github.com/centroidlab/centroid/distance"
 	"github.com/centroidlab/centroid/kmeans"
+	"github.com/centroidlab/centroid/kmeans/stream"
 	"github.com/centroidlab/centroid/seeding"
 )
 
@@ -269,7 +270,7 @@ func (j *job) progress(stage string, pass int, cost float64) {
 func (j *job) readState(path string) (State, error) {
 	b, err := readFile(j.ctx, path)
 	if err != nil {
-		return State{}, fmt.Errorf("%w: reading the state the pipeline left: %w", ErrPipeline, err)
+		return State{}, noState(err)
 	}
 	return decodeState(b)
 }
@@ -277,9 +278,15 @@ func (j *job) readState(path string) (State, error) {
 func (j *job) readSeed(path string) (seedState, error) {
 	b, err := readFile(j.ctx, path)
 	if err != nil {
-		return seedState{}, fmt.Errorf("%w: reading the state the pipeline left: %w", ErrPipeline, err)
+		return seedState{}, noState(err)
 	}
 	return decodeSeedState(b)
+}
+
+// noState is the error for a pipeline that succeeded but left no state:
+// no row reached the pass.
+func noState(err error) error {
+	return fmt.Errorf("%w: the pipeline left no state, so no row reached the pass (is the input empty, or WorkDir not shared with the workers?): %w", stream.ErrEmpty, err)
 }
 
 // driven runs one pipeline per pass.

@@ -315,3 +315,14 @@ func TestClusterCancelled(t *testing.T) {
 	_, err := Cluster(ctx, Problem{Rows: (&genFn{N: 10, D: 1, K: 1, Rows: 5}).source(), D: 1, K: 1}, nil)
 	require.True(t, errors.Is(err, context.Canceled), err)
 }
+
+// TestClusterNoRows: a source without rows is reported as such.
+func TestClusterNoRows(t *testing.T) {
+	empty := func(s beam.Scope) beam.PCollection {
+		return beam.ParDo(s, &matrixFn{D: 1, Rows: 1}, beam.Impulse(s))
+	}
+	for _, it := range []Iteration{Driven, Unrolled} {
+		_, err := Cluster(context.Background(), Problem{Rows: empty, D: 1, K: 1}, &Settings{MaxPasses: 2, Iteration: it})
+		require.ErrorIs(t, err, stream.ErrEmpty, it)
+	}
+}

@@ -59,7 +59,10 @@ func (f *labelFn) Setup() error {
 func (f *labelFn) ProcessElement(b Block, state func(*State) bool, emit func(labelled)) error {
 	if f.st == nil {
 		var st State
-		if !state(&st) || st.Centers == nil {
+		if !state(&st) {
+			return nil // the passes failed or saw no rows (see assignFn)
+		}
+		if st.Centers == nil {
 			return fmt.Errorf("%w: no final centers to label with", ErrInput)
 		}
 		f.st = &st

@@ -108,7 +108,9 @@ func (f *assignFn) ProcessElement(b Block, state func(*State) bool, emit func(le
 	if f.st == nil {
 		var st State
 		if !state(&st) {
-			return fmt.Errorf("%w: no state for the pass", ErrInput)
+			// An earlier pass failed or saw no rows; the runner reports
+			// the failure, and the job finds no state.
+			return nil
 		}
 		if err := st.check(&f.sp); err != nil {
 			return err
@@ -167,7 +169,7 @@ func (f *advanceFn) ProcessElement(st State, merged func(*sum) bool, emit func(S
 	}
 	var m sum
 	if !merged(&m) || m.P == nil {
-		return fmt.Errorf("%w: pass %d saw no rows", ErrInput, st.Pass+1)
+		return nil // no rows: emit no state (see assignFn)
 	}
 	sp, err := f.Spec.space()
 	if err != nil {

@@ -162,7 +162,7 @@ func (f *seedAddFn) ProcessElement(b Block, state func(*seedState) bool, emit fu
 		// The side input is the same for every element of this transform.
 		var st seedState
 		if !state(&st) {
-			return fmt.Errorf("%w: no k-means‖ state for the pass", ErrInput)
+			return nil // an earlier pass failed or saw no rows (see assignFn)
 		}
 		if st.Done {
 			f.done = true
@@ -229,7 +229,11 @@ func (f *seedNextFn) ProcessElement(st seedState, merged func(*partSum) bool, em
 		emit(st)
 		return nil
 	}
-	next, err := f.Spec.next(st, merged)
+	var m partSum
+	if !merged(&m) || m.P == nil {
+		return nil // no rows: emit no state (see assignFn)
+	}
+	next, err := f.Spec.next(st, m)
 	if err != nil {
 		return err
 	}
@@ -237,11 +241,7 @@ func (f *seedNextFn) ProcessElement(st seedState, merged func(*partSum) bool, em
 	return nil
 }
 
-func (sp spec) next(st seedState, merged func(*partSum) bool) (seedState, error) {
-	var m partSum
-	if !merged(&m) || m.P == nil {
-		return seedState{}, fmt.Errorf("%w: the k-means‖ pass saw no rows", ErrInput)
-	}
+func (sp spec) next(st seedState, m partSum) (seedState, error) {
 	history := append(slices.Clip(st.History), m.P)
 	pl, err := sp.replay(history)
 	if err != nil {
