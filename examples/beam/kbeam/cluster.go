@@ -182,7 +182,6 @@ type job struct {
 	cleanup  func()
 	seed     seedState
 	state    State
-	res      Result
 	pipeline int
 }
 

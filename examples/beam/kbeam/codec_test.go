@@ -23,7 +23,7 @@ func samplePart() *seeding.ParallelPart {
 // subnormals included.
 func TestCodecRoundTrip(t *testing.T) {
 	p := kmeans.NewPartial(2, 2)
-	p.Add(1, []float64{math.Inf(1), -0.0}, 2, 3)
+	p.Add(1, []float64{math.Inf(1), math.Copysign(0, -1)}, 2, 3)
 	blk := Block{Seq: 1 << 40, First: 12, X: []float64{1, 2, 3, 4}, W: []float64{0, 1}, Keep: []string{"a,b", ""}}
 	gotB, err := decodeBlock(encodeBlock(blk))
 	require.NoError(t, err)
