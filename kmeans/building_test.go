@@ -7,12 +7,13 @@ import (
 	"math"
 	"testing"
 
-	"github.com/centroidlab/centroid/distance"
-	"github.com/centroidlab/centroid/scale"
-	"github.com/centroidlab/centroid/seeding"
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/centroidlab/centroid/distance"
+	"github.com/centroidlab/centroid/scale"
+	"github.com/centroidlab/centroid/seeding"
 )
 
 // TestNewModelMatchesCluster: a model rebuilt with NewModel from a

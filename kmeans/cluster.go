@@ -8,11 +8,12 @@ import (
 	"math/rand/v2"
 	"sync"
 
+	"gonum.org/v1/gonum/blas/blas32"
+	"gonum.org/v1/gonum/mat"
+
 	"github.com/centroidlab/centroid/internal/blocks"
 	"github.com/centroidlab/centroid/internal/check"
 	"github.com/centroidlab/centroid/seeding"
-	"gonum.org/v1/gonum/blas/blas32"
-	"gonum.org/v1/gonum/mat"
 )
 
 // Cluster partitions the rows of p.Data into p.K clusters with the k-means

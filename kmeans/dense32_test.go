@@ -9,14 +9,15 @@ import (
 	"runtime"
 	"testing"
 
-	"github.com/centroidlab/centroid/distance"
-	"github.com/centroidlab/centroid/internal/data/reference"
-	"github.com/centroidlab/centroid/scale"
-	"github.com/centroidlab/centroid/seeding"
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
 	"gonum.org/v1/gonum/blas/blas32"
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/centroidlab/centroid/distance"
+	"github.com/centroidlab/centroid/internal/data/reference"
+	"github.com/centroidlab/centroid/scale"
+	"github.com/centroidlab/centroid/seeding"
 )
 
 // TestDense32: shape, element access, views, conversion both ways, and

@@ -6,9 +6,10 @@ import (
 	"fmt"
 	"slices"
 
+	"gonum.org/v1/gonum/mat"
+
 	"github.com/centroidlab/centroid/kmeans"
 	"github.com/centroidlab/centroid/scale"
-	"gonum.org/v1/gonum/mat"
 )
 
 // Six docking stations of a fictional bike-share scheme, described by trips

@@ -9,12 +9,13 @@ import (
 	"sync/atomic"
 	"testing"
 
-	"github.com/centroidlab/centroid/distance"
-	"github.com/centroidlab/centroid/scale"
-	"github.com/centroidlab/centroid/seeding"
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/centroidlab/centroid/distance"
+	"github.com/centroidlab/centroid/scale"
+	"github.com/centroidlab/centroid/seeding"
 )
 
 // TestAbsurdSettings: settings that would size memory beyond reason are

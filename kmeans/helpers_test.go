@@ -4,8 +4,9 @@ import (
 	"math"
 	"math/rand/v2"
 
-	"github.com/centroidlab/centroid/distance"
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/centroidlab/centroid/distance"
 )
 
 // blobs returns n rows of dimension d drawn around k well-separated centres

@@ -9,14 +9,15 @@ import (
 	"slices"
 	"testing"
 
-	"github.com/centroidlab/centroid/distance"
-	"github.com/centroidlab/centroid/internal/data/reference"
-	"github.com/centroidlab/centroid/scale"
-	"github.com/centroidlab/centroid/seeding"
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
 	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/centroidlab/centroid/distance"
+	"github.com/centroidlab/centroid/internal/data/reference"
+	"github.com/centroidlab/centroid/scale"
+	"github.com/centroidlab/centroid/seeding"
 )
 
 // Iris (Fisher 1936; shared iris.csv, R datasets version). The best k-means

@@ -6,13 +6,14 @@ import (
 	"sync"
 	"time"
 
+	"gonum.org/v1/gonum/blas/blas64"
+	"gonum.org/v1/gonum/mat"
+
 	"github.com/centroidlab/centroid/distance"
 	"github.com/centroidlab/centroid/internal/asm/f64"
 	"github.com/centroidlab/centroid/internal/check"
 	"github.com/centroidlab/centroid/internal/nearest"
 	"github.com/centroidlab/centroid/scale"
-	"gonum.org/v1/gonum/blas/blas64"
-	"gonum.org/v1/gonum/mat"
 )
 
 // Model is a fitted clustering: k centers in the clustering space, the

@@ -4,10 +4,11 @@ import (
 	"fmt"
 	"math"
 
+	"gonum.org/v1/gonum/floats"
+
 	"github.com/centroidlab/centroid/distance"
 	"github.com/centroidlab/centroid/internal/asm/f32"
 	"github.com/centroidlab/centroid/internal/nearest"
-	"gonum.org/v1/gonum/floats"
 )
 
 // Partial holds the per-cluster statistics of a block of rows: weighted sums

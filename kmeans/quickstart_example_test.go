@@ -6,9 +6,10 @@ import (
 	"encoding/json"
 	"fmt"
 
+	"gonum.org/v1/gonum/mat"
+
 	"github.com/centroidlab/centroid/kmeans"
 	"github.com/centroidlab/centroid/scale"
-	"gonum.org/v1/gonum/mat"
 )
 
 // quickStart is the README's quick start, verbatim between the markers.

@@ -8,9 +8,10 @@ import (
 	"math/rand/v2"
 	"testing"
 
+	"gonum.org/v1/gonum/mat"
+
 	"github.com/centroidlab/centroid/distance"
 	"github.com/centroidlab/centroid/scale"
-	"gonum.org/v1/gonum/mat"
 )
 
 // Serving benchmarks. Rows rotate through 4096 distinct training rows so

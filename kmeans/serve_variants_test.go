@@ -5,8 +5,9 @@ import (
 	"math"
 	"testing"
 
-	"github.com/centroidlab/centroid/distance"
 	"github.com/stretchr/testify/require"
+
+	"github.com/centroidlab/centroid/distance"
 )
 
 // The pruned serving search that Model.Nearest ran before the plain scan

@@ -6,10 +6,11 @@ import (
 	"testing"
 	"time"
 
+	"gonum.org/v1/gonum/mat"
+
 	"github.com/centroidlab/centroid/internal/data/reference"
 	"github.com/centroidlab/centroid/internal/data/synth"
 	"github.com/centroidlab/centroid/seeding"
-	"gonum.org/v1/gonum/mat"
 )
 
 // benchMethods are the solvers every benchmark compares.

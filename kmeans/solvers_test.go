@@ -8,15 +8,16 @@ import (
 	"slices"
 	"testing"
 
+	"github.com/stretchr/testify/assert"
+	"github.com/stretchr/testify/require"
+	"gonum.org/v1/gonum/mat"
+
 	"github.com/centroidlab/centroid/distance"
 	"github.com/centroidlab/centroid/internal/asm/f64"
 	"github.com/centroidlab/centroid/internal/data/bikeshare"
 	"github.com/centroidlab/centroid/internal/data/reference"
 	"github.com/centroidlab/centroid/scale"
 	"github.com/centroidlab/centroid/seeding"
-	"github.com/stretchr/testify/assert"
-	"github.com/stretchr/testify/require"
-	"gonum.org/v1/gonum/mat"
 )
 
 // directLloyd is Lloyd's pass computing Metric.Loss for every row and

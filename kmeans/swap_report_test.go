@@ -8,9 +8,10 @@ import (
 	"testing"
 	"time"
 
-	"github.com/centroidlab/centroid/internal/data/reference"
 	"github.com/stretchr/testify/require"
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/centroidlab/centroid/internal/data/reference"
 )
 
 // TestSwapReport prints the refinement table of BENCHMARKS.md: for every

@@ -5,10 +5,11 @@ import (
 	"math/rand/v2"
 	"testing"
 
-	"github.com/centroidlab/centroid/internal/data/reference"
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/centroidlab/centroid/internal/data/reference"
 )
 
 // labelMeans returns the mean of every labelled class: the centers of the

@@ -5,8 +5,9 @@ import (
 	"math/rand/v2"
 	"testing"
 
-	"github.com/centroidlab/centroid/seeding"
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/centroidlab/centroid/seeding"
 )
 
 // Benchmark sizes: rows, columns and centers.

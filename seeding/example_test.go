@@ -5,9 +5,10 @@ import (
 	"fmt"
 	"math/rand/v2"
 
+	"gonum.org/v1/gonum/mat"
+
 	"github.com/centroidlab/centroid/distance"
 	"github.com/centroidlab/centroid/seeding"
-	"gonum.org/v1/gonum/mat"
 )
 
 // stations is a small fictional bike-share network: for each docking

@@ -7,11 +7,12 @@ import (
 	"math/rand/v2"
 	"testing"
 
-	"github.com/centroidlab/centroid/distance"
-	"github.com/centroidlab/centroid/seeding"
 	"github.com/stretchr/testify/require"
 	"gonum.org/v1/gonum/blas/blas32"
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/centroidlab/centroid/distance"
+	"github.com/centroidlab/centroid/seeding"
 )
 
 // float32Rows returns n×d float32 values with a stride of d+pad (the pad

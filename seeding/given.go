@@ -5,11 +5,12 @@ import (
 	"fmt"
 	"math/rand/v2"
 
+	"gonum.org/v1/gonum/blas/blas32"
+	"gonum.org/v1/gonum/mat"
+
 	"github.com/centroidlab/centroid/distance"
 	"github.com/centroidlab/centroid/internal/check"
 	"github.com/centroidlab/centroid/internal/rowset"
-	"gonum.org/v1/gonum/blas/blas32"
-	"gonum.org/v1/gonum/mat"
 )
 
 // Given seeds with centers the caller already has: a warm start from an

@@ -9,9 +9,10 @@ import (
 	"github.com/centroidlab/centroid/internal/check"
 	"github.com/centroidlab/centroid/internal/nearest"
 
-	"github.com/centroidlab/centroid/distance"
 	"gonum.org/v1/gonum/blas/blas32"
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/centroidlab/centroid/distance"
 )
 
 // input is a validated call to Seed. It reads data through its backing

@@ -9,11 +9,12 @@ import (
 	"sync"
 	"sync/atomic"
 
+	"gonum.org/v1/gonum/mat"
+
 	"github.com/centroidlab/centroid/distance"
 	"github.com/centroidlab/centroid/internal/blocks"
 	"github.com/centroidlab/centroid/internal/nearest"
 	"github.com/centroidlab/centroid/internal/rowset"
-	"gonum.org/v1/gonum/mat"
 )
 
 // DefaultRounds is the number of sampling rounds of Parallel when

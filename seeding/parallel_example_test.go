@@ -4,8 +4,9 @@ import (
 	"fmt"
 	"math/rand/v2"
 
-	"github.com/centroidlab/centroid/seeding"
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/centroidlab/centroid/seeding"
 )
 
 func ExampleParallel() {

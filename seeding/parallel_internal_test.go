@@ -6,9 +6,10 @@ import (
 	"slices"
 	"testing"
 
-	"github.com/centroidlab/centroid/distance"
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
+
+	"github.com/centroidlab/centroid/distance"
 )
 
 // TestParallelRoundFollowsThePaper checks one sampling round against a

@@ -9,9 +9,10 @@ import (
 	"github.com/centroidlab/centroid/internal/blocks"
 	"github.com/centroidlab/centroid/internal/nearest"
 
-	"github.com/centroidlab/centroid/distance"
 	"gonum.org/v1/gonum/blas/blas32"
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/centroidlab/centroid/distance"
 )
 
 // PlusPlus is k-means++ seeding (D. Arthur and S. Vassilvitskii, "k-means++:

@@ -7,9 +7,10 @@ import (
 
 	"github.com/centroidlab/centroid/internal/rowset"
 
-	"github.com/centroidlab/centroid/distance"
 	"gonum.org/v1/gonum/blas/blas32"
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/centroidlab/centroid/distance"
 )
 
 // maxRejections is the number of consecutive draws of an already chosen

@@ -4,9 +4,10 @@ import (
 	"context"
 	"math/rand/v2"
 
-	"github.com/centroidlab/centroid/distance"
 	"gonum.org/v1/gonum/blas/blas32"
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/centroidlab/centroid/distance"
 )
 
 // Seeder picks initial centers for k-means.

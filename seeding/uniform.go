@@ -8,9 +8,10 @@ import (
 
 	"github.com/centroidlab/centroid/internal/rowset"
 
-	"github.com/centroidlab/centroid/distance"
 	"gonum.org/v1/gonum/blas/blas32"
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/centroidlab/centroid/distance"
 )
 
 // maxRedraws is the number of draws Uniform makes for one center before it

@@ -2,10 +2,11 @@ package validate
 
 import (
 	"fmt"
-	"github.com/centroidlab/centroid/internal/sample"
 	"math"
 	"math/rand/v2"
 	"runtime"
+
+	"github.com/centroidlab/centroid/internal/sample"
 
 	"gonum.org/v1/gonum/mat"
 

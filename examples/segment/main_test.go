@@ -10,10 +10,11 @@ import (
 	"strings"
 	"testing"
 
-	"github.com/centroidlab/centroid/internal/data/bikeshare"
-	"github.com/centroidlab/centroid/kmeans"
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
+
+	"github.com/centroidlab/centroid/internal/data/bikeshare"
+	"github.com/centroidlab/centroid/kmeans"
 )
 
 // small is a quick network for tests.

@@ -12,13 +12,14 @@ import (
 	"github.com/centroidlab/centroid/kmeans/choosek"
 	"github.com/centroidlab/centroid/kmeans/profile"
 
+	"gonum.org/v1/gonum/mat"
+
 	"github.com/centroidlab/centroid/distance"
 	"github.com/centroidlab/centroid/internal/data/bikeshare"
 	"github.com/centroidlab/centroid/kmeans"
 	"github.com/centroidlab/centroid/kmeans/plot"
 	"github.com/centroidlab/centroid/scale"
 	"github.com/centroidlab/centroid/validate"
-	"gonum.org/v1/gonum/mat"
 )
 
 // Effort of the sweep: enough restarts for 300 stations, few for the

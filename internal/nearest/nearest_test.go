@@ -7,9 +7,10 @@ import (
 	"math/rand/v2"
 	"testing"
 
-	"github.com/centroidlab/centroid/distance"
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
+
+	"github.com/centroidlab/centroid/distance"
 )
 
 // directSq is the reference: Σ(x_t−c_t)² in plain double precision, summed

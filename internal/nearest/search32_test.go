@@ -6,9 +6,10 @@ import (
 	"math/rand/v2"
 	"testing"
 
+	"github.com/stretchr/testify/require"
+
 	"github.com/centroidlab/centroid/distance"
 	"github.com/centroidlab/centroid/internal/asm/f32"
-	"github.com/stretchr/testify/require"
 )
 
 // set32 is an adversarial problem with float32 rows and float64 centers.

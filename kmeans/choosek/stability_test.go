@@ -6,10 +6,11 @@ import (
 	"slices"
 	"testing"
 
-	"github.com/centroidlab/centroid/kmeans"
-	"github.com/centroidlab/centroid/validate"
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
+
+	"github.com/centroidlab/centroid/kmeans"
+	"github.com/centroidlab/centroid/validate"
 )
 
 // TestStabilityClusteredVersusUniform: four well-separated clusters are

@@ -8,14 +8,15 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/stretchr/testify/assert"
+	"github.com/stretchr/testify/require"
+	"gonum.org/v1/gonum/mat"
+
 	"github.com/centroidlab/centroid/distance"
 	"github.com/centroidlab/centroid/internal/data/reference"
 	"github.com/centroidlab/centroid/kmeans"
 	"github.com/centroidlab/centroid/scale"
 	"github.com/centroidlab/centroid/validate"
-	"github.com/stretchr/testify/assert"
-	"github.com/stretchr/testify/require"
-	"gonum.org/v1/gonum/mat"
 )
 
 // sweepText renders a sweep for comparisons and logs (NaN-safe, unlike

@@ -9,14 +9,15 @@ import (
 
 	"github.com/centroidlab/centroid/kmeans/choosek"
 
+	"gonum.org/v1/gonum/mat"
+	"gonum.org/v1/plot/vg"
+
 	"github.com/centroidlab/centroid/distance"
 	"github.com/centroidlab/centroid/internal/data/bikeshare"
 	"github.com/centroidlab/centroid/kmeans"
 	"github.com/centroidlab/centroid/kmeans/plot"
 	"github.com/centroidlab/centroid/scale"
 	"github.com/centroidlab/centroid/validate"
-	"gonum.org/v1/gonum/mat"
-	"gonum.org/v1/plot/vg"
 )
 
 // pngSize returns the pixel size of a PNG file.

@@ -16,13 +16,14 @@ import (
 
 	"github.com/centroidlab/centroid/kmeans/choosek"
 
-	"github.com/centroidlab/centroid/distance"
-	"github.com/centroidlab/centroid/kmeans"
-	"github.com/centroidlab/centroid/validate"
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
 	"gonum.org/v1/gonum/mat"
 	"gonum.org/v1/plot/vg"
+
+	"github.com/centroidlab/centroid/distance"
+	"github.com/centroidlab/centroid/kmeans"
+	"github.com/centroidlab/centroid/validate"
 )
 
 // blobs returns n rows around k centres in d dimensions (invented test

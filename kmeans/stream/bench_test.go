@@ -5,11 +5,12 @@ import (
 	"path/filepath"
 	"testing"
 
+	"gonum.org/v1/gonum/mat"
+
 	"github.com/centroidlab/centroid/internal/data/synth"
 	"github.com/centroidlab/centroid/kmeans"
 	"github.com/centroidlab/centroid/kmeans/stream"
 	"github.com/centroidlab/centroid/seeding"
-	"gonum.org/v1/gonum/mat"
 )
 
 // Sizes of the pass benchmarks: one Lloyd pass over benchRows rows of

@@ -7,11 +7,12 @@ import (
 	"math"
 	"runtime"
 
+	"gonum.org/v1/gonum/mat"
+
 	"github.com/centroidlab/centroid/distance"
 	"github.com/centroidlab/centroid/kmeans"
 	"github.com/centroidlab/centroid/scale"
 	"github.com/centroidlab/centroid/seeding"
-	"gonum.org/v1/gonum/mat"
 )
 
 // Problem says what to cluster from a stream of rows.

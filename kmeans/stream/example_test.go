@@ -8,9 +8,10 @@ import (
 	"math/rand/v2"
 	"strings"
 
+	"gonum.org/v1/gonum/mat"
+
 	"github.com/centroidlab/centroid/kmeans/stream"
 	"github.com/centroidlab/centroid/scale"
-	"gonum.org/v1/gonum/mat"
 )
 
 // Riverton Bikes exports its docking stations as CSV; the source reads two

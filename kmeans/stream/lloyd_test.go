@@ -11,6 +11,10 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/stretchr/testify/assert"
+	"github.com/stretchr/testify/require"
+	"gonum.org/v1/gonum/mat"
+
 	"github.com/centroidlab/centroid/distance"
 	"github.com/centroidlab/centroid/internal/data/reference"
 	"github.com/centroidlab/centroid/internal/data/synth"
@@ -18,9 +22,6 @@ import (
 	"github.com/centroidlab/centroid/kmeans/stream"
 	"github.com/centroidlab/centroid/scale"
 	"github.com/centroidlab/centroid/seeding"
-	"github.com/stretchr/testify/assert"
-	"github.com/stretchr/testify/require"
-	"gonum.org/v1/gonum/mat"
 )
 
 // startCenters returns k distinct rows of X in the clustering space (after

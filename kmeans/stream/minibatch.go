@@ -6,9 +6,10 @@ import (
 	"math/rand/v2"
 	"slices"
 
+	"gonum.org/v1/gonum/mat"
+
 	"github.com/centroidlab/centroid/kmeans"
 	"github.com/centroidlab/centroid/seeding"
-	"gonum.org/v1/gonum/mat"
 )
 
 // Defaults of MiniBatch.

@@ -5,14 +5,15 @@ import (
 	"math"
 	"testing"
 
+	"github.com/stretchr/testify/assert"
+	"github.com/stretchr/testify/require"
+	"gonum.org/v1/gonum/mat"
+
 	"github.com/centroidlab/centroid/distance"
 	"github.com/centroidlab/centroid/internal/data/synth"
 	"github.com/centroidlab/centroid/kmeans"
 	"github.com/centroidlab/centroid/kmeans/stream"
 	"github.com/centroidlab/centroid/scale"
-	"github.com/stretchr/testify/assert"
-	"github.com/stretchr/testify/require"
-	"gonum.org/v1/gonum/mat"
 )
 
 // costOf is the within-cluster sum of squares of X against centers,

@@ -8,10 +8,11 @@ import (
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
 
+	"gonum.org/v1/gonum/mat"
+
 	"github.com/centroidlab/centroid/distance"
 	"github.com/centroidlab/centroid/internal/data/synth"
 	"github.com/centroidlab/centroid/kmeans"
-	"gonum.org/v1/gonum/mat"
 )
 
 // TestPartialsMergeAnySplit checks the property streaming rests on: the

@@ -5,9 +5,10 @@ import (
 	"fmt"
 	"math"
 
+	"gonum.org/v1/gonum/mat"
+
 	"github.com/centroidlab/centroid/kmeans"
 	"github.com/centroidlab/centroid/scale"
-	"gonum.org/v1/gonum/mat"
 )
 
 // scalerKind says how a scaler is learned from a stream.

@@ -6,10 +6,11 @@ import (
 	"math"
 	"math/rand/v2"
 
+	"gonum.org/v1/gonum/mat"
+
 	"github.com/centroidlab/centroid/internal/blocks"
 	"github.com/centroidlab/centroid/kmeans"
 	"github.com/centroidlab/centroid/seeding"
-	"gonum.org/v1/gonum/mat"
 )
 
 // seedKey separates the k-means‖ row draws from other uses of the seed.

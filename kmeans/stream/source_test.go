@@ -11,11 +11,12 @@ import (
 	"strings"
 	"testing"
 
-	"github.com/centroidlab/centroid/kmeans"
-	"github.com/centroidlab/centroid/kmeans/stream"
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/centroidlab/centroid/kmeans"
+	"github.com/centroidlab/centroid/kmeans/stream"
 )
 
 // readAll drains a source into rows.

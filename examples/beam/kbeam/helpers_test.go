@@ -6,7 +6,6 @@ import (
 	"math/rand/v2"
 	"os"
 	"path/filepath"
-	"reflect"
 	"slices"
 	"strconv"
 	"testing"
@@ -128,16 +127,10 @@ func matrixSource(x *mat.Dense, w []float64, rows int) Source {
 }
 
 // lloydSettings are the in-memory settings that run plain Lloyd for
-// exactly passes passes from given centers: one restart, and no
-// refinement after Lloyd where the core has one (its Settings.SwapTrials,
-// -1 turning it off, exists on branches that this module may be built
-// against; set it when present).
+// exactly passes passes from given centers: one restart and no random-swap
+// refinement.
 func lloydSettings(passes int) *kmeans.Settings {
-	s := &kmeans.Settings{Restarts: 1, MaxIterations: passes}
-	if f := reflect.ValueOf(s).Elem().FieldByName("SwapTrials"); f.IsValid() && f.CanSet() {
-		f.SetInt(-1)
-	}
-	return s
+	return &kmeans.Settings{Restarts: 1, MaxIterations: passes, SwapTrials: -1}
 }
 
 // relDiff returns max |a−b| / max(1, max |b|) over the elements.

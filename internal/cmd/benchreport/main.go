@@ -13,6 +13,10 @@ import (
 	"sync"
 	"time"
 
+	"gonum.org/v1/gonum/blas"
+	"gonum.org/v1/gonum/blas/blas64"
+	"gonum.org/v1/gonum/mat"
+
 	"github.com/centroidlab/centroid/distance"
 	"github.com/centroidlab/centroid/internal/asm/f32"
 	"github.com/centroidlab/centroid/internal/asm/f64"
@@ -21,9 +25,6 @@ import (
 	"github.com/centroidlab/centroid/internal/nearest"
 	"github.com/centroidlab/centroid/kmeans"
 	"github.com/centroidlab/centroid/seeding"
-	"gonum.org/v1/gonum/blas"
-	"gonum.org/v1/gonum/blas/blas64"
-	"gonum.org/v1/gonum/mat"
 )
 
 func main() {
