@@ -285,7 +285,6 @@ func kernelTile(d int) int { return min(256, max(16, (8192/d)&^3)) }
 type scratch struct {
 	s      nearest.Searcher
 	s32    nearest.Searcher32
-	row    []float64 // one row widened to float64
 	res    []int
 	f      []float64 // k: losses of one row (Hamerly)
 	groupV []float64 // per group: new lower bounds of one row (Yinyang)

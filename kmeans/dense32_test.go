@@ -53,13 +53,12 @@ func TestDense32(t *testing.T) {
 // float32Case is a problem whose float32 version must cluster exactly as
 // the float64 conversion.
 type float32Case struct {
-	name     string
-	x        *Dense32
-	p        Problem // everything but Data
-	s        Settings
-	workers  []int
-	methods  []Method
-	noCopyOK bool // the space must hold the float32 rows
+	name    string
+	x       *Dense32
+	p       Problem // everything but Data
+	s       Settings
+	workers []int
+	methods []Method
 }
 
 // sameAsFloat64 clusters c.x and mat.DenseCopyOf(c.x) with every method
@@ -186,7 +185,7 @@ func TestFloat32SeedersAndScalers(t *testing.T) {
 		{K: 6, Seeder: wrappedSeeder{seeding.PlusPlus{}}},
 		{K: 6, Scaler: &scale.ZScore{}},
 		{K: 6, Scaler: &scale.MinMax{}},
-		{K: 6, Scaler: &scale.Robust{}, Metric: distance.Manhattan{}},
+		{K: 6, Scaler: &scale.MedianIQR{}, Metric: distance.Manhattan{}},
 	}
 	for i, p := range cases {
 		sameAsFloat64(t, float32Case{name: fmt.Sprintf("case %d", i), x: x, p: p, s: Settings{Restarts: 2, Seed: 12},

@@ -145,7 +145,7 @@ func TestSearchMatchesScan(t *testing.T) {
 func TestSearchScaled(t *testing.T) {
 	_, x := bikeshare.Generate(400, 3)
 	n, d := x.Dims()
-	for _, sc := range []scale.Scaler{nil, &scale.ZScore{}, &scale.MinMax{}, &scale.Robust{}, &scale.UnitLength{}} {
+	for _, sc := range []scale.Scaler{nil, &scale.ZScore{}, &scale.MinMax{}, &scale.MedianIQR{}, &scale.UnitLength{}} {
 		for _, metric := range []distance.Objective{distance.Euclidean{}, distance.Manhattan{}, distance.Cosine{}} {
 			name := metric.Name() + "/none"
 			if sc != nil {

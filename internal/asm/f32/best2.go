@@ -1,6 +1,9 @@
 package f32
 
-import "math"
+import (
+	"math"
+	"runtime"
+)
 
 var inf = float32(math.Inf(1))
 
@@ -163,9 +166,6 @@ func checkPackShift(nDst, nR2, nx, d, m int) {
 	}
 }
 
-// peakSink keeps the chains of peakGeneric alive.
-var peakSink float32
-
 // peakGeneric is PeakLoop's scalar loop.
 func peakGeneric(n int) {
 	var s0, s1, s2, s3, s4, s5, s6, s7, s8, s9, s10, s11 float32
@@ -184,5 +184,5 @@ func peakGeneric(n int) {
 		s10 += a * b
 		s11 += a * b
 	}
-	peakSink = s0 + s1 + s2 + s3 + s4 + s5 + s6 + s7 + s8 + s9 + s10 + s11
+	runtime.KeepAlive(s0 + s1 + s2 + s3 + s4 + s5 + s6 + s7 + s8 + s9 + s10 + s11) // keeps the chains alive
 }

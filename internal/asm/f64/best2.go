@@ -1,6 +1,9 @@
 package f64
 
-import "math"
+import (
+	"math"
+	"runtime"
+)
 
 var inf = math.Inf(1)
 
@@ -228,9 +231,6 @@ func checkPackShift(nDst, nR2, nx, d, m int) {
 	}
 }
 
-// peakSink keeps the chains of peakGeneric alive.
-var peakSink float64
-
 // peakGeneric is PeakLoop's scalar loop.
 func peakGeneric(n int) {
 	var s0, s1, s2, s3, s4, s5, s6, s7, s8, s9, s10, s11 float64
@@ -249,7 +249,7 @@ func peakGeneric(n int) {
 		s10 = math.FMA(a, b, s10)
 		s11 = math.FMA(a, b, s11)
 	}
-	peakSink = s0 + s1 + s2 + s3 + s4 + s5 + s6 + s7 + s8 + s9 + s10 + s11
+	runtime.KeepAlive(s0 + s1 + s2 + s3 + s4 + s5 + s6 + s7 + s8 + s9 + s10 + s11) // keeps the chains alive
 }
 
 // affineGeneric is the pure-Go Affine.
