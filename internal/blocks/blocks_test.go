@@ -57,7 +57,11 @@ func TestEachPanic(t *testing.T) {
 			})
 			t.Fatal("Each returned after a panic")
 		}()
-		require.Less(t, int(ran.Load()), s.Count(), "blocks after the panic were skipped")
+		if w == 1 {
+			// With several workers the others may take the remaining blocks
+			// before they see the panic; one worker stops at once.
+			require.Equal(t, 4, int(ran.Load()), "blocks after the panic were skipped")
+		}
 	}
 }
 
