@@ -350,7 +350,11 @@ func (s *scanner) key() ([]byte, error) {
 // content: a slice of the body when it holds no escape and is valid UTF-8,
 // else the string decoded into s.scratch (valid until the next call) as
 // encoding/json decodes it: escapes resolved, invalid UTF-8 and lone
-// surrogates replaced by U+FFFD.
+// surrogates replaced by U+FFFD. A decoded string is cut just after its
+// first kmeans.MaxFeatureName bytes: the strings read are field names,
+// and one longer than that is no feature's name and is shown cut there
+// (shown), so the cut changes no answer while it keeps the scratch from
+// growing with the body (a replaced byte takes three).
 func (s *scanner) str() ([]byte, error) {
 	start := s.i
 	s.i++
@@ -367,7 +371,7 @@ func (s *scanner) str() ([]byte, error) {
 			if !escaped && (!high || utf8.Valid(raw)) {
 				return raw, nil
 			}
-			s.scratch = unquote(s.scratch[:0], raw)
+			s.scratch = unquote(s.scratch[:0], raw, kmeans.MaxFeatureName)
 			return s.scratch, nil
 		case c < 0x20:
 			return nil, malformed("at byte %d: control character %q in a string", s.i, c)
@@ -396,9 +400,11 @@ func (s *scanner) str() ([]byte, error) {
 }
 
 // unquote appends the decoded content of the string raw, whose escapes
-// str has checked, to dst.
-func unquote(dst, raw []byte) []byte {
-	for i := 0; i < len(raw); {
+// str has checked, to dst, stopping once it has appended more than limit
+// bytes.
+func unquote(dst, raw []byte, limit int) []byte {
+	start := len(dst)
+	for i := 0; i < len(raw) && len(dst)-start <= limit; {
 		switch c := raw[i]; {
 		case c == '\\':
 			switch e := raw[i+1]; e {
