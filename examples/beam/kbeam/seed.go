@@ -358,39 +358,11 @@ func decodePartLeaf(b []byte) (partLeaf, error) {
 	return l, r.done("k-means‖ part")
 }
 
-func encodePartTree(t partTree) []byte {
-	w := newWire(codecVersion, 64)
-	w.u64(uint64(len(t.Nodes)))
-	for _, n := range t.Nodes {
-		w.b = append(w.b, n.Level)
-		w.u64(n.Index)
-		encodePart(w, n.Value)
-	}
-	return w.b
-}
+func encodePartTree(t partTree) []byte { return encodeTree(t.mergeTree, encodePart) }
 
 func decodePartTree(b []byte) (partTree, error) {
-	r := newReader(b, "k-means‖ tree")
-	n := r.count(10)
-	var t partTree
-	for range n {
-		if r.err != nil || len(r.b) < 1 {
-			r.fail("truncated tree")
-			break
-		}
-		lv := r.b[0]
-		r.b = r.b[1:]
-		idx := r.u64()
-		p := decodePart(r)
-		if r.err == nil && p == nil {
-			r.fail("tree node without content")
-		}
-		t.Nodes = append(t.Nodes, treeNode[*seeding.ParallelPart]{Level: lv, Index: idx, Value: p})
-	}
-	if r.err == nil && !slices.IsSortedFunc(t.Nodes, compareNodes) {
-		r.fail("tree nodes out of order")
-	}
-	return t, r.done("k-means‖ tree")
+	m, err := decodeTree(b, "k-means‖ tree", "tree node without content", decodePart)
+	return partTree{m}, err
 }
 
 func encodePartSum(s partSum) []byte {

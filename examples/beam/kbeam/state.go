@@ -148,39 +148,11 @@ func mergePartials(l, r *kmeans.Partial) *kmeans.Partial {
 	return l
 }
 
-func encodePartialTree(t partialTree) []byte {
-	w := newWire(codecVersion, 64)
-	w.u64(uint64(len(t.Nodes)))
-	for _, n := range t.Nodes {
-		w.b = append(w.b, n.Level)
-		w.u64(n.Index)
-		encodePartial(w, n.Value)
-	}
-	return w.b
-}
+func encodePartialTree(t partialTree) []byte { return encodeTree(t.mergeTree, encodePartial) }
 
 func decodePartialTree(b []byte) (partialTree, error) {
-	r := newReader(b, "statistics tree")
-	n := r.count(10)
-	var t partialTree
-	for range n {
-		if r.err != nil || len(r.b) < 1 {
-			r.fail("truncated tree")
-			break
-		}
-		lv := r.b[0]
-		r.b = r.b[1:]
-		idx := r.u64()
-		p := decodePartial(r)
-		if r.err == nil && p == nil {
-			r.fail("tree node without statistics")
-		}
-		t.Nodes = append(t.Nodes, treeNode[*kmeans.Partial]{Level: lv, Index: idx, Value: p})
-	}
-	if r.err == nil && !slices.IsSortedFunc(t.Nodes, compareNodes) {
-		r.fail("tree nodes out of order")
-	}
-	return t, r.done("statistics tree")
+	m, err := decodeTree(b, "statistics tree", "tree node without statistics", decodePartial)
+	return partialTree{m}, err
 }
 
 // sum is the merged statistics of a pass; P is nil when no block arrived.

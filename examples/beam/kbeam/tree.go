@@ -102,3 +102,42 @@ func (t *mergeTree[T]) result(merge func(left, right T) T) (T, bool) {
 	}
 	return acc, true
 }
+
+// encodeTree writes the nodes of t, each value with enc, for a coder.
+func encodeTree[T any](t mergeTree[T], enc func(*wire, T)) []byte {
+	w := newWire(codecVersion, 64)
+	w.u64(uint64(len(t.Nodes)))
+	for _, n := range t.Nodes {
+		w.b = append(w.b, n.Level)
+		w.u64(n.Index)
+		enc(w, n.Value)
+	}
+	return w.b
+}
+
+// decodeTree reads what encodeTree wrote, each value with dec, which
+// returns nil for a value without content (an error, named by missing).
+// what names the encoding in errors. The nodes must come sorted.
+func decodeTree[V any, T interface{ *V }](b []byte, what, missing string, dec func(*reader) T) (mergeTree[T], error) {
+	r := newReader(b, what)
+	n := r.count(10)
+	var t mergeTree[T]
+	for range n {
+		if r.err != nil || len(r.b) < 1 {
+			r.fail("truncated tree")
+			break
+		}
+		lv := r.b[0]
+		r.b = r.b[1:]
+		idx := r.u64()
+		v := dec(r)
+		if r.err == nil && v == nil {
+			r.fail(missing)
+		}
+		t.Nodes = append(t.Nodes, treeNode[T]{Level: lv, Index: idx, Value: v})
+	}
+	if r.err == nil && !slices.IsSortedFunc(t.Nodes, compareNodes) {
+		r.fail("tree nodes out of order")
+	}
+	return t, r.done(what)
+}
